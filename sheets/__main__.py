@@ -1,0 +1,3 @@
+from sheets.cli import main
+
+raise SystemExit(main())

@@ -1,0 +1,177 @@
+"""The `sheets` command: parse arguments, call sheets.build, print readable tables.
+
+Exit codes (DESIGN.md): 0 success, 2 bad input, 3 the frame cannot carry the
+loads (mechanism), 4 a verification check failed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from contextlib import contextmanager
+from typing import Iterator, Sequence
+
+import numpy as np
+from rich.console import Console
+from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
+from rich.table import Table
+
+from sheets import __version__, build
+from sheets.errors import EXIT_CHECK_FAILED, EXIT_OK, MechanismError, ProjectError
+
+TOP_N = 25  # rows shown per table on screen; the CSV files carry all of them
+
+out = Console(highlight=False)
+err = Console(stderr=True, highlight=False)
+
+
+def _fixed(value: float, digits: int = 3) -> str:
+    """Thousands-separated fixed point, with no '-0.000' for values that round to zero."""
+    return f"{round(float(value), digits) + 0.0:,.{digits}f}"
+
+
+def _parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="sheets",
+        description="Calculation sheets for pin-jointed frames: forces, determinacy, graphic statics, load path.",
+    )
+    parser.add_argument("--version", action="version", version=f"sheets {__version__}")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    p = sub.add_parser("check", help="validate a project file and report the determinacy of the frame")
+    p.add_argument("project", help="the project file (.toml)")
+    p.set_defaults(run=_check)
+
+    p = sub.add_parser("solve", help="solve every load case and combination; print and export the results")
+    p.add_argument("project", help="the project file (.toml)")
+    p.add_argument("--json", metavar="FILE", help="write the results document (schema sheets.results/1) here")
+    p.add_argument("--csv", metavar="DIR", help="write the results as CSV tables into this folder")
+    p.add_argument("--quiet", action="store_true", help="print only the summary, not the force tables")
+    p.set_defaults(run=_solve)
+    return parser
+
+
+@contextmanager
+def progress_notes() -> Iterator:
+    """A transient spinner naming the stage being worked on (stderr, so stdout stays clean)."""
+    with Progress(SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(), console=err, transient=True) as bar:
+        task = bar.add_task("starting", total=None)
+        yield lambda message: bar.update(task, description=message)
+
+
+def _determinacy_table(det) -> Table:
+    t = Table(title="Stability and determinacy", show_header=False)
+    t.add_column("quantity")
+    t.add_column("value", justify="right")
+    rows = [
+        ("nodes / members", f"{det.n_nodes} / {det.n_members}"),
+        ("fixed / free translations", f"{det.n_fixed} / {det.n_free}"),
+        ("rank of equilibrium matrix", str(det.rank)),
+        ("self-stress states s", str(det.self_stress)),
+        ("mechanisms k", str(det.mechanisms)),
+        ("Maxwell's rule m - d n + fixed = s - k", f"{det.maxwell} = {det.self_stress - det.mechanisms}  {'holds' if det.maxwell_holds else 'FAILS'}"),
+        ("conditioning (smallest kept / largest singular value)", f"{det.conditioning:.3e}"),
+        ("route", det.route),
+    ]
+    for row in rows:
+        t.add_row(*row)
+    return t
+
+
+def _check(args) -> int:
+    project, det = build.check(args.project)
+    out.print(f"[bold]{project.info.title}[/bold]  ({project.dim}D, {project.n_nodes} nodes, {project.n_members} members, "
+              f"{len(project.cases)} cases, {len(project.combinations)} combinations)")
+    out.print(_determinacy_table(det))
+    out.print(f"The frame is {det.classification}.")
+    if det.mechanisms:
+        out.print("[yellow]Loads with a component along a mechanism will be refused by `sheets solve`.[/yellow]")
+    return EXIT_OK
+
+
+def _forces_table(analysis, state) -> Table:
+    p = analysis.project
+    u = p.units
+    f = u.factor("force")
+    order = np.argsort(-np.abs(state.forces), kind="stable")
+    shown = order[:TOP_N]
+    extra = f" (largest {TOP_N} of {p.n_members}; all in the CSV files)" if p.n_members > TOP_N else ""
+    t = Table(title=f"{state.kind} {state.id}: {state.title}{extra}")
+    t.add_column("member")
+    t.add_column("nodes")
+    t.add_column(f"force [{u.label('force')}]", justify="right")
+    t.add_column("sense")
+    for e in shown:
+        a, b = p.ends[e]
+        val = state.forces[e] / f
+        sense = "tension" if val > 1e-9 * max(1.0, abs(val)) else "compression" if val < -1e-9 * max(1.0, abs(val)) else "zero"
+        t.add_row(p.member_ids[e], f"{p.node_ids[a]}-{p.node_ids[b]}", _fixed(val), sense)
+    return t
+
+
+def _reactions_table(analysis, state) -> Table:
+    p = analysis.project
+    u = p.units
+    f = u.factor("force")
+    t = Table(title=f"Reactions, {state.id} [{u.label('force')}]")
+    t.add_column("node")
+    for axis in p.axes:
+        t.add_column(axis, justify="right")
+    supported = np.flatnonzero(p.fixed.any(axis=1))
+    for n in supported[:TOP_N]:
+        t.add_row(p.node_ids[n], *[_fixed(state.reactions[n, a] / f) if p.fixed[n, a] else "free" for a in range(p.dim)])
+    return t
+
+
+def _checks_table(analysis) -> Table:
+    p = analysis.project
+    t = Table(title="Verification of every state")
+    for col in ("state", "method", "nodal residual", "resultant", "moment", f"load path [{p.units.label('load_path')}]", "load path error", "result"):
+        t.add_column(col, justify="left" if col in ("state", "method", "result") else "right")
+    lp = p.units.factor("load_path")
+    for s in analysis.states:
+        c = s.checks
+        t.add_row(s.id, s.method, f"{c.residual:.1e}", f"{c.resultant:.1e}", f"{c.moment:.1e}",
+                  _fixed(analysis.load_path(s) / lp), f"{c.load_path_error:.1e}",
+                  "[green]pass[/green]" if c.passed else "[red]FAIL[/red]")
+    return t
+
+
+def _solve(args) -> int:
+    with progress_notes() as note:
+        analysis = build.solve(args.project, note)
+        written = build.write_results(analysis, args.json, args.csv)
+    p = analysis.project
+    out.print(f"[bold]{p.info.title}[/bold]  ({p.dim}D, {p.n_nodes} nodes, {p.n_members} members)")
+    out.print(_determinacy_table(analysis.determinacy))
+    if not args.quiet:
+        for state in analysis.states:
+            out.print(_forces_table(analysis, state))
+            if p.fixed.any():
+                out.print(_reactions_table(analysis, state))
+    out.print(_checks_table(analysis))
+    for path in written:
+        out.print(f"wrote {path}")
+    if not analysis.passed:
+        err.print("[red]A verification check failed: the results are written but must not be used as they stand.[/red]")
+        return EXIT_CHECK_FAILED
+    return EXIT_OK
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    args = _parser().parse_args(argv)
+    try:
+        return args.run(args)
+    except ProjectError as exc:
+        err.print(f"[red]The project has {len(exc.problems)} problem{'s' if len(exc.problems) != 1 else ''}:[/red]")
+        for problem in exc.problems:
+            err.print(f"  {problem}", markup=False)
+        return exc.exit_code
+    except MechanismError as exc:
+        err.print("[red]The frame cannot carry the loads.[/red]")
+        err.print(f"  {exc}", markup=False)
+        return exc.exit_code
+
+
+if __name__ == "__main__":
+    sys.exit(main())

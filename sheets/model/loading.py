@@ -1,0 +1,629 @@
+"""Read a project file (TOML, plus any CSV files it names) into a Project.
+
+Every problem is collected in one pass and raised together as a ProjectError;
+each names the file, the key path, the line where known, and what to do.
+"""
+
+from __future__ import annotations
+
+import csv
+import difflib
+import hashlib
+import io
+import math
+import sys
+from pathlib import Path
+from types import MappingProxyType
+from typing import Any, Callable
+
+import numpy as np
+from scipy.spatial import cKDTree
+
+from sheets.errors import Problem, ProjectError
+from sheets.model import schema
+from sheets.model.locate import KeyLines
+from sheets.model.project import (
+    AXES,
+    ROLES,
+    AnalysisOptions,
+    Combination,
+    DesignOptions,
+    DrawingOptions,
+    PolyhedralInput,
+    LoadCase,
+    Material,
+    Prestress,
+    Project,
+    ProjectInfo,
+    Revision,
+    Section,
+    frozen_array,
+)
+from sheets.model.units import KINDS, DisplayUnits, UnitProblem, parse_value, si_factor
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover
+    import tomli as tomllib
+
+Path_ = tuple[str, ...]
+
+
+class _Reader:
+    """Collects problems while the file is read; knows where keys are."""
+
+    def __init__(self, path: Path, text: str):
+        self.path = path
+        self.file = str(path)
+        self.lines = KeyLines(text)
+        self.problems: list[Problem] = []
+        self.hash = hashlib.sha256(text.encode("utf-8"))
+
+    def problem(self, where: Path_, message: str, hint: str = "", *, file: str | None = None, line: int | None = None):
+        if file is None:
+            file, line = self.file, self.lines.line(where)
+        self.problems.append(Problem(file, ".".join(where), message, hint, line))
+
+    def table(self, data: Any, where: Path_, *, required: bool = False) -> dict:
+        if data is None:
+            if required:
+                self.problem(where[:-1], f"missing table [{'.'.join(where)}]", f"add a [{'.'.join(where)}] table")
+            return {}
+        if not isinstance(data, dict):
+            self.problem(where, f"expected a table, got {type(data).__name__}", "see docs/project-file.md for its form")
+            return {}
+        return data
+
+    def known_keys(self, data: dict, allowed: tuple[str, ...], where: Path_):
+        for key in data:
+            if key not in allowed:
+                near = difflib.get_close_matches(key, allowed, n=1)
+                hint = f"did you mean '{near[0]}'?" if near else f"allowed keys: {', '.join(allowed)}"
+                self.problem(where + (key,), f"unknown key '{key}'", hint)
+
+    def text(self, data: dict, key: str, where: Path_, default: str = "", *, required: bool = False) -> str:
+        if key not in data:
+            if required:
+                self.problem(where, f"missing '{key}'", f"add {key} = \"...\"")
+            return default
+        value = data[key]
+        if isinstance(value, (str, int, float)) and not isinstance(value, bool):
+            return str(value)
+        # TOML dates parse to datetime.date: keep their ISO text
+        if hasattr(value, "isoformat"):
+            return value.isoformat()
+        self.problem(where + (key,), f"expected text, got {value!r}")
+        return default
+
+    def quantity(self, value: Any, kind: str, units: DisplayUnits, where: Path_) -> float | None:
+        try:
+            return parse_value(value, kind, units.unit(kind))
+        except UnitProblem as exc:
+            self.problem(where, str(exc), f"give a number in {units.label(kind)} or a string like \"1.5 {units.label(kind)}\"")
+            return None
+
+    def positive(self, value: float | None, where: Path_, what: str) -> float | None:
+        if value is not None and value <= 0:
+            self.problem(where, f"{what} must be positive, got {value:g} (SI)")
+            return None
+        return value
+
+
+def load_project(path: str | Path) -> Project:
+    """Read and validate a project file; raise ProjectError listing every problem."""
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise ProjectError([Problem(str(path), "", f"cannot read the project file: {exc.strerror or exc}", "check the path")])
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise ProjectError([Problem(str(path), "", f"not UTF-8 text ({exc.reason} at byte {exc.start})", "save the file as UTF-8")])
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        line = getattr(exc, "lineno", None)
+        msg = getattr(exc, "msg", str(exc))
+        raise ProjectError([Problem(str(path), "", f"not valid TOML: {msg}", "fix the syntax at that line", line)])
+    reader = _Reader(path, text)
+    project = _build(reader, data)
+    if reader.problems or project is None:
+        raise ProjectError(reader.problems)
+    return project
+
+
+def _build(r: _Reader, data: dict) -> Project | None:
+    r.known_keys(data, schema.TOP_LEVEL, ())
+    units = _units(r, data)
+    info = _info(r, data)
+    geometry = r.table(data.get("geometry"), ("geometry",))
+    r.known_keys(geometry, schema.GEOMETRY, ("geometry",))
+    dim = geometry.get("dimension", 2)
+    if dim not in (2, 3) or isinstance(dim, bool):
+        r.problem(("geometry", "dimension"), f"dimension must be 2 or 3, got {dim!r}")
+        dim = 2
+    vertical = geometry.get("vertical_axis", "y" if dim == 2 else "z")
+    if vertical not in AXES[:dim]:
+        r.problem(("geometry", "vertical_axis"), f"vertical_axis must be one of {', '.join(AXES[:dim])}, got {vertical!r}")
+        vertical = AXES[dim - 1]
+
+    materials = _materials(r, data, units)
+    sections = _sections(r, data, units, materials)
+    node_ids, coords = _nodes(r, data, geometry, dim, units)
+    node_index = {nid: i for i, nid in enumerate(node_ids)}
+    members = _members(r, data, geometry, node_index, sections)
+    _check_geometry(r, node_ids, coords, members)
+    fixed = _supports(r, data, node_index, dim)
+    cases = _cases(r, data, node_index, dim, units)
+    prestress = _prestress(r, data, units, {m[0] for m in members})
+    combinations = _combinations(r, data, {c.id for c in cases} | ({prestress.id} if prestress else set()))
+    options = _options(r, data)
+    drawing = _drawing(r, data, dim, {c.id for c in cases} | {c.id for c in combinations} | ({prestress.id} if prestress else set()))
+    design = _design(r, data, units)
+    polyhedral = _polyhedral(r, data, node_index, dim)
+    if r.problems:
+        return None
+    return Project(
+        source=r.file,
+        info=info,
+        units=units,
+        dim=dim,
+        vertical_axis=AXES.index(vertical),
+        node_ids=tuple(node_ids),
+        coords=frozen_array(coords),
+        member_ids=tuple(m[0] for m in members),
+        ends=frozen_array([(node_index[m[1]], node_index[m[2]]) for m in members], dtype=np.int64).reshape(-1, 2),
+        member_sections=tuple(m[3] for m in members),
+        member_roles=tuple(m[4] for m in members),
+        member_groups=tuple(m[5] for m in members),
+        materials=MappingProxyType(materials),
+        sections=MappingProxyType(sections),
+        fixed=frozen_array(fixed, dtype=bool),
+        cases=tuple(cases),
+        combinations=tuple(combinations),
+        prestress=prestress,
+        options=options,
+        drawing=drawing,
+        design=design,
+        polyhedral=polyhedral,
+        fingerprint=r.hash.hexdigest(),
+    )
+
+
+def _units(r: _Reader, data: dict) -> DisplayUnits:
+    table = r.table(data.get("units"), ("units",))
+    r.known_keys(table, tuple(KINDS), ("units",))
+    chosen = {k: v[1] for k, v in KINDS.items()}
+    for kind, unit in table.items():
+        if kind not in KINDS:
+            continue
+        if not isinstance(unit, str):
+            r.problem(("units", kind), f"expected a unit name, got {unit!r}", f"e.g. {kind} = \"{KINDS[kind][1]}\"")
+            continue
+        try:
+            si_factor(unit, kind)
+        except UnitProblem as exc:
+            r.problem(("units", kind), str(exc))
+            continue
+        chosen[kind] = unit
+    return DisplayUnits(MappingProxyType(chosen))
+
+
+def _info(r: _Reader, data: dict) -> ProjectInfo:
+    where = ("project",)
+    table = r.table(data.get("project"), where, required=True)
+    r.known_keys(table, schema.PROJECT, where)
+    revisions = []
+    raw_revisions = table.get("revisions", [])
+    if not isinstance(raw_revisions, list):
+        r.problem(where + ("revisions",), "expected a list of revision tables", "use [[project.revisions]] blocks")
+        raw_revisions = []
+    for i, rev in enumerate(raw_revisions):
+        w = where + ("revisions", str(i))
+        rev = r.table(rev, w)
+        r.known_keys(rev, schema.REVISION, w)
+        revisions.append(Revision(r.text(rev, "revision", w, required=True), r.text(rev, "date", w, required=True), r.text(rev, "note", w)))
+    fields = {k: r.text(table, k, where) for k in schema.PROJECT if k not in ("revisions", "title", "template")}
+    return ProjectInfo(
+        title=r.text(table, "title", where, required=bool(table)),
+        template=r.text(table, "template", where, "a4-portrait"),
+        revisions=tuple(revisions),
+        **fields,
+    )
+
+
+def _materials(r: _Reader, data: dict, units: DisplayUnits) -> dict[str, Material]:
+    out = {}
+    for mid, table in r.table(data.get("materials"), ("materials",)).items():
+        w = ("materials", mid)
+        table = r.table(table, w)
+        r.known_keys(table, schema.MATERIAL, w)
+        if "elastic_modulus" not in table:
+            r.problem(w, "missing 'elastic_modulus'", 'add elastic_modulus = "210 GPa" (or your material\'s value)')
+            continue
+        e = r.positive(r.quantity(table["elastic_modulus"], "stress", units, w + ("elastic_modulus",)), w + ("elastic_modulus",), "elastic_modulus")
+        fy = r.positive(r.quantity(table["yield_strength"], "stress", units, w + ("yield_strength",)), w + ("yield_strength",), "yield_strength") if "yield_strength" in table else None
+        rho = r.positive(r.quantity(table["density"], "density", units, w + ("density",)), w + ("density",), "density") if "density" in table else None
+        if e is not None:
+            out[mid] = Material(mid, e, fy, rho)
+    return out
+
+
+def _sections(r: _Reader, data: dict, units: DisplayUnits, materials: dict) -> dict[str, Section]:
+    out = {}
+    kinds = {"area": "area", "second_moment": "second_moment", "axial_stiffness": "force"}
+    for sid, table in r.table(data.get("sections"), ("sections",)).items():
+        w = ("sections", sid)
+        table = r.table(table, w)
+        r.known_keys(table, schema.SECTION, w)
+        values = {
+            key: r.positive(r.quantity(table[key], kind, units, w + (key,)), w + (key,), key) if key in table else None
+            for key, kind in kinds.items()
+        }
+        material = table.get("material")
+        if material is not None and material not in materials and material not in r.table(data.get("materials"), ("materials",)):
+            near = difflib.get_close_matches(str(material), list(materials), n=1)
+            r.problem(w + ("material",), f"unknown material '{material}'", f"did you mean '{near[0]}'?" if near else "define it under [materials]")
+        if values["area"] is None and values["axial_stiffness"] is None and "area" not in table and "axial_stiffness" not in table:
+            r.problem(w, "a section needs 'area' (with a material) or 'axial_stiffness'", 'add area = "1200 mm^2"')
+        out[sid] = Section(sid, material, values["area"], values["second_moment"], values["axial_stiffness"])
+    return out
+
+
+def _csv_rows(r: _Reader, name: Any, where: Path_, columns: tuple[str, ...], optional: tuple[str, ...] = ()):
+    """Yield (line number, row dict) from a CSV file the project names; problems name the CSV."""
+    if not isinstance(name, str):
+        r.problem(where, f"expected a file name, got {name!r}")
+        return
+    path = (r.path.parent / name)
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        r.problem(where, f"cannot read '{name}': {exc.strerror or exc}", "the path is relative to the project file")
+        return
+    r.hash.update(b"\0" + name.encode() + b"\0" + raw)
+    text = raw.decode("utf-8-sig", errors="replace")
+    reader = csv.DictReader(io.StringIO(text))
+    header = [h.strip() for h in (reader.fieldnames or [])]
+    reader.fieldnames = header
+    missing = [c for c in columns if c not in header]
+    if missing:
+        r.problem(where, f"'{name}' lacks the column(s) {', '.join(missing)}", f"the first line must name the columns: {', '.join(columns + optional)}", file=str(path), line=1)
+        return
+    unknown = [c for c in header if c not in columns + optional]
+    for c in unknown:
+        r.problem(where, f"'{name}' has an unknown column '{c}'", f"allowed: {', '.join(columns + optional)}", file=str(path), line=1)
+    for row in reader:
+        if not any((v or "").strip() for v in row.values() if isinstance(v, str)):
+            continue
+        yield reader.line_num, str(path), {k: (v or "").strip() for k, v in row.items() if k is not None}
+
+
+def _coordinate_vector(r: _Reader, value: Any, dim: int, units: DisplayUnits, where: Path_, kind: str, file=None, line=None):
+    if not isinstance(value, (list, tuple)) or len(value) != dim:
+        r.problem(where, f"expected {dim} components [{', '.join(AXES[:dim])}], got {value!r}", file=file, line=line)
+        return None
+    out = []
+    for axis, v in zip(AXES, value):
+        try:
+            out.append(parse_value(v, kind, units.unit(kind)))
+        except UnitProblem as exc:
+            r.problem(where, f"{axis}: {exc}", f"give a number in {units.label(kind)} or a string with a unit", file=file, line=line)
+            return None
+    return out
+
+
+def _nodes(r: _Reader, data: dict, geometry: dict, dim: int, units: DisplayUnits):
+    ids: list[str] = []
+    coords: list[list[float]] = []
+    seen: dict[str, str] = {}
+
+    def add(nid: str, xyz, where: Path_, file=None, line=None):
+        if not nid:
+            r.problem(where, "a node has an empty id", file=file, line=line)
+            return
+        if nid in seen:
+            r.problem(where, f"duplicate node id '{nid}' (also at {seen[nid]})", "give every node its own id", file=file, line=line)
+            return
+        seen[nid] = f"{file or r.file}:{line or r.lines.line(where)}"
+        ids.append(nid)
+        coords.append(xyz)
+
+    if "nodes_file" in geometry:
+        cols = ("id",) + AXES[:dim]
+        for line, file, row in _csv_rows(r, geometry["nodes_file"], ("geometry", "nodes_file"), cols):
+            xyz = _coordinate_vector(r, [row[a] for a in AXES[:dim]], dim, units, ("geometry", "nodes_file"), "length", file, line)
+            if xyz is not None:
+                add(row["id"], xyz, ("geometry", "nodes_file"), file, line)
+    for nid, value in r.table(data.get("nodes"), ("nodes",)).items():
+        xyz = _coordinate_vector(r, value, dim, units, ("nodes", nid), "length")
+        if xyz is not None:
+            add(nid, xyz, ("nodes", nid))
+    if not ids and not r.problems:
+        r.problem(("nodes",), "the project has no nodes", "add a [nodes] table or geometry.nodes_file")
+    return ids, np.array(coords, dtype=float).reshape(-1, dim)
+
+
+def _members(r: _Reader, data: dict, geometry: dict, node_index: dict, sections: dict):
+    defaults = r.table(data.get("member_defaults"), ("member_defaults",))
+    r.known_keys(defaults, schema.MEMBER_DEFAULTS, ("member_defaults",))
+    declared_sections = set(r.table(data.get("sections"), ("sections",)))
+    out = []
+    seen: dict[str, str] = {}
+
+    def add(mid: str, start: str, end: str, section: str, role: str, group: str, where: Path_, file=None, line=None):
+        ok = True
+        if mid in seen:
+            r.problem(where, f"duplicate member id '{mid}' (also at {seen[mid]})", "give every member its own id", file=file, line=line)
+            return
+        for end_id in (start, end):
+            if end_id not in node_index:
+                near = difflib.get_close_matches(end_id, list(node_index), n=1)
+                r.problem(where, f"member '{mid}' names an unknown node '{end_id}'", f"did you mean '{near[0]}'?" if near else "define the node under [nodes]", file=file, line=line)
+                ok = False
+        if start == end and ok:
+            r.problem(where, f"member '{mid}' starts and ends at node '{start}' (zero length)", "join two different nodes", file=file, line=line)
+            ok = False
+        if section and section not in declared_sections:
+            near = difflib.get_close_matches(section, list(declared_sections), n=1)
+            r.problem(where, f"member '{mid}' names an unknown section '{section}'", f"did you mean '{near[0]}'?" if near else "define it under [sections]", file=file, line=line)
+            ok = False
+        if role not in ROLES:
+            r.problem(where, f"member '{mid}' has role '{role}'", f"role is one of {', '.join(ROLES)}", file=file, line=line)
+            ok = False
+        seen[mid] = f"{file or r.file}:{line or r.lines.line(where)}"
+        if ok:
+            out.append((mid, start, end, section, role, group))
+
+    d_section = str(defaults.get("section", ""))
+    d_role = str(defaults.get("role", "bar"))
+    d_group = str(defaults.get("group", ""))
+    if "members_file" in geometry:
+        for line, file, row in _csv_rows(r, geometry["members_file"], ("geometry", "members_file"), ("id", "start", "end"), ("section", "role", "group")):
+            add(row["id"], row["start"], row["end"], row.get("section") or d_section, row.get("role") or d_role, row.get("group") or d_group, ("geometry", "members_file"), file, line)
+    for mid, value in r.table(data.get("members"), ("members",)).items():
+        w = ("members", mid)
+        if isinstance(value, list):
+            value = {"ends": value}
+        if not isinstance(value, dict):
+            r.problem(w, f"expected [start, end] or a table with 'ends', got {value!r}", 'e.g. B1 = ["N1", "N2"]')
+            continue
+        r.known_keys(value, schema.MEMBER, w)
+        ends = value.get("ends")
+        if not (isinstance(ends, list) and len(ends) == 2 and all(isinstance(e, str) for e in ends)):
+            r.problem(w, f"'ends' must be two node ids, got {ends!r}", 'e.g. ends = ["N1", "N2"]')
+            continue
+        add(mid, ends[0], ends[1], str(value.get("section", d_section)), str(value.get("role", d_role)), str(value.get("group", d_group)), w)
+    if not out and not r.problems:
+        r.problem(("members",), "the project has no members", "add a [members] table or geometry.members_file")
+    return out
+
+
+def _check_geometry(r: _Reader, node_ids, coords: np.ndarray, members):
+    if len(node_ids) < 2:
+        return
+    extent = float(np.ptp(coords, axis=0).max()) or 1.0
+    tol = 1e-9 * extent
+    for i, j in sorted(cKDTree(coords).query_pairs(tol)):
+        r.problem(("nodes", node_ids[j]), f"node '{node_ids[j]}' coincides with node '{node_ids[i]}'", "merge them or move one")
+    index = {nid: i for i, nid in enumerate(node_ids)}
+    pairs: dict[tuple[int, int], str] = {}
+    for mid, a, b, *_ in members:
+        key = tuple(sorted((index[a], index[b])))
+        if key in pairs:
+            r.problem(("members", mid), f"member '{mid}' joins the same nodes as member '{pairs[key]}'", "remove the duplicate or merge their sections")
+        pairs[key] = mid
+        if np.linalg.norm(coords[index[a]] - coords[index[b]]) <= tol and a != b:
+            r.problem(("members", mid), f"member '{mid}' has zero length", "its end nodes coincide")
+
+
+def _supports(r: _Reader, data: dict, node_index: dict, dim: int) -> np.ndarray:
+    fixed = np.zeros((len(node_index), dim), dtype=bool)
+    for nid, value in r.table(data.get("supports"), ("supports",)).items():
+        w = ("supports", nid)
+        if nid not in node_index:
+            near = difflib.get_close_matches(nid, list(node_index), n=1)
+            r.problem(w, f"support on unknown node '{nid}'", f"did you mean '{near[0]}'?" if near else "use a node id from [nodes]")
+            continue
+        axes = AXES[:dim] if value == "all" else value
+        if isinstance(axes, str):
+            axes = list(axes)
+        if not isinstance(axes, list) or not axes or any(a not in AXES[:dim] for a in axes):
+            r.problem(w, f"expected the fixed axes, e.g. \"{''.join(AXES[:dim])}\" or \"{AXES[dim - 1]}\", got {value!r}")
+            continue
+        for a in axes:
+            fixed[node_index[nid], AXES.index(a)] = True
+    if not fixed.any() and "supports" in data:
+        r.problem(("supports",), "no translation is fixed anywhere", "fix at least the rigid-body motions")
+    return fixed
+
+
+def _cases(r: _Reader, data: dict, node_index: dict, dim: int, units: DisplayUnits) -> list[LoadCase]:
+    out = []
+    tables = r.table(data.get("cases"), ("cases",))
+    if not tables and "cases" not in data and "prestress" not in data:
+        r.problem(("cases",), "the project has no load cases and no prestress", "add a [cases.ID] table with loads")
+    for cid, table in tables.items():
+        w = ("cases", cid)
+        table = r.table(table, w)
+        r.known_keys(table, schema.CASE, w)
+        loads = np.zeros((len(node_index), dim))
+        self_weight = table.get("self_weight", False)
+        if not isinstance(self_weight, bool):
+            r.problem(w + ("self_weight",), f"expected true or false, got {self_weight!r}")
+            self_weight = False
+
+        def add(nid: str, vector, where: Path_, file=None, line=None):
+            if nid not in node_index:
+                near = difflib.get_close_matches(nid, list(node_index), n=1)
+                r.problem(where, f"load on unknown node '{nid}'", f"did you mean '{near[0]}'?" if near else "use a node id from [nodes]", file=file, line=line)
+                return
+            v = _coordinate_vector(r, vector, dim, units, where, "force", file, line)
+            if v is not None:
+                loads[node_index[nid]] += v
+
+        if "loads_file" in table:
+            cols = ("node",) + tuple(f"f{a}" for a in AXES[:dim])
+            for line, file, row in _csv_rows(r, table["loads_file"], w + ("loads_file",), cols):
+                add(row["node"], [row[c] for c in cols[1:]], w + ("loads_file",), file, line)
+        for nid, vector in r.table(table.get("loads"), w + ("loads",)).items():
+            add(nid, vector, w + ("loads", nid))
+        out.append(LoadCase(cid, r.text(table, "title", w, cid), frozen_array(loads), self_weight))
+    return out
+
+
+def _combinations(r: _Reader, data: dict, state_ids: set[str]) -> list[Combination]:
+    out = []
+    for cid, table in r.table(data.get("combinations"), ("combinations",)).items():
+        w = ("combinations", cid)
+        table = r.table(table, w)
+        r.known_keys(table, schema.COMBINATION, w)
+        if cid in state_ids:
+            r.problem(w, f"combination '{cid}' has the id of a load case", "give combinations their own ids")
+        factors = []
+        for case_id, f in r.table(table.get("factors"), w + ("factors",), required=True).items():
+            if case_id not in state_ids:
+                near = difflib.get_close_matches(case_id, sorted(state_ids), n=1)
+                r.problem(w + ("factors", case_id), f"combination '{cid}' names an unknown case '{case_id}'", f"did you mean '{near[0]}'?" if near else "use a case id from [cases]")
+            elif isinstance(f, bool) or not isinstance(f, (int, float)) or not math.isfinite(f):
+                r.problem(w + ("factors", case_id), f"factor must be a finite number, got {f!r}")
+            else:
+                factors.append((case_id, float(f)))
+        out.append(Combination(cid, r.text(table, "title", w, cid), tuple(factors)))
+    return out
+
+
+def _prestress(r: _Reader, data: dict, units: DisplayUnits, member_ids: set[str]) -> Prestress | None:
+    if "prestress" not in data:
+        return None
+    w = ("prestress",)
+    table = r.table(data["prestress"], w)
+    r.known_keys(table, schema.PRESTRESS, w)
+    method = table.get("method", "feasible")
+    if method not in schema.PRESTRESS_METHODS:
+        r.problem(w + ("method",), f"unknown prestress method {method!r}", f"use one of {', '.join(schema.PRESTRESS_METHODS)}")
+        return None
+    sid = r.text(table, "id", w, "prestress")
+    if method == "feasible":
+        level = r.quantity(table.get("level", 0.0), "force", units, w + ("level",))
+        level = r.positive(level, w + ("level",), "level")
+        if "level" not in table:
+            r.problem(w, "feasible prestress needs 'level', the least force in every cable and strut", 'add level = "5 kN"')
+        return Prestress(sid, method, level=level or 0.0)
+    member = r.text(table, "member", w, required=True)
+    if member and member not in member_ids:
+        r.problem(w + ("member",), f"unknown member '{member}'", "name the member whose force sets the prestress level")
+    force = r.quantity(table.get("force", 0.0), "force", units, w + ("force",))
+    if "force" not in table:
+        r.problem(w, "scaled prestress needs 'force', the force in the named member", 'add force = "20 kN"')
+    return Prestress(sid, method, member=member, force=force or 0.0)
+
+
+def _options(r: _Reader, data: dict) -> AnalysisOptions:
+    w = ("analysis",)
+    table = r.table(data.get("analysis"), w)
+    r.known_keys(table, schema.ANALYSIS, w)
+    defaults = AnalysisOptions()
+    method = table.get("method", defaults.method)
+    if method not in schema.ANALYSIS_METHODS:
+        r.problem(w + ("method",), f"unknown analysis method {method!r}", f"use one of {', '.join(schema.ANALYSIS_METHODS)}")
+        method = defaults.method
+
+    def number(key: str, default, check: Callable[[float], bool], rule: str):
+        value = table.get(key, default)
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not check(value):
+            r.problem(w + (key,), f"{key} must be {rule}, got {value!r}")
+            return default
+        return value
+
+    return AnalysisOptions(
+        method=method,
+        rank_tolerance=float(number("rank_tolerance", defaults.rank_tolerance, lambda v: 0 < v < 1e-2, "between 0 and 0.01")),
+        equilibrium_tolerance=float(number("equilibrium_tolerance", defaults.equilibrium_tolerance, lambda v: 0 < v < 1e-2, "between 0 and 0.01")),
+        dense_limit=int(number("dense_limit", defaults.dense_limit, lambda v: isinstance(v, int) and v >= 0, "a whole number >= 0")),
+    )
+
+
+def _drawing(r: _Reader, data: dict, dim: int, state_ids: set[str]) -> DrawingOptions:
+    w = ("drawing",)
+    table = r.table(data.get("drawing"), w)
+    r.known_keys(table, schema.DRAWING, w)
+    defaults = DrawingOptions()
+    embedding = table.get("embedding", defaults.embedding)
+    if embedding not in schema.EMBEDDINGS:
+        r.problem(w + ("embedding",), f"unknown embedding {embedding!r}", f"use one of {', '.join(schema.EMBEDDINGS)}")
+        embedding = defaults.embedding
+    projection, name = defaults.projection, defaults.projection_name
+    value = table.get("projection", name)
+    if isinstance(value, str) and value in schema.NAMED_DIRECTIONS:
+        projection, name = schema.NAMED_DIRECTIONS[value], value
+    elif isinstance(value, list) and len(value) == 3 and all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value) and any(value):
+        projection, name = tuple(float(v) for v in value), "custom"
+    else:
+        r.problem(w + ("projection",), f"projection must be one of {', '.join(schema.NAMED_DIRECTIONS)} or a direction [x, y, z], got {value!r}")
+    views = table.get("views", list(defaults.views))
+    if not isinstance(views, list) or any(v not in schema.NAMED_DIRECTIONS for v in views):
+        r.problem(w + ("views",), f"views must be a list drawn from {', '.join(schema.NAMED_DIRECTIONS)}, got {views!r}")
+        views = list(defaults.views)
+    mix = table.get("minkowski_mix", defaults.minkowski_mix)
+    if isinstance(mix, bool) or not isinstance(mix, (int, float)) or not 0 < mix < 1:
+        r.problem(w + ("minkowski_mix",), f"minkowski_mix must be between 0 and 1 (exclusive), got {mix!r}")
+        mix = defaults.minkowski_mix
+    states = table.get("states", [])
+    if not isinstance(states, list) or not all(isinstance(x, str) for x in states):
+        r.problem(w + ("states",), f"states must be a list of case or combination ids, got {states!r}")
+        states = []
+    for x in states:
+        if x not in state_ids:
+            near = difflib.get_close_matches(x, sorted(state_ids), n=1)
+            r.problem(w + ("states",), f"unknown case or combination '{x}'", f"did you mean '{near[0]}'?" if near else "use ids from [cases] or [combinations]")
+    return DrawingOptions(embedding, projection, name, tuple(views), float(mix), tuple(states))
+
+
+def _design(r: _Reader, data: dict, units: DisplayUnits) -> DesignOptions:
+    w = ("design",)
+    table = r.table(data.get("design"), w)
+    r.known_keys(table, schema.DESIGN, w)
+    values: dict[str, float | None] = {}
+    for key in ("partial_factor", "effective_length_factor", "slenderness_limit", "tension_slenderness_limit"):
+        v = table.get(key)
+        if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0):
+            r.problem(w + (key,), f"{key} must be a positive number, got {v!r}")
+            v = None
+        values[key] = None if v is None else float(v)
+    limit = None
+    if "stress_limit" in table:
+        limit = r.positive(r.quantity(table["stress_limit"], "stress", units, w + ("stress_limit",)), w + ("stress_limit",), "stress_limit")
+    return DesignOptions(stress_limit=limit, **values)
+
+
+def _polyhedral(r: _Reader, data: dict, node_index: dict, dim: int) -> PolyhedralInput:
+    w = ("polyhedral",)
+    table = r.table(data.get("polyhedral"), w)
+    r.known_keys(table, schema.POLYHEDRAL, w)
+    if table and dim != 3:
+        r.problem(w, "a cell complex needs a 3D frame", "remove [polyhedral] or set geometry.dimension = 3")
+    cells = []
+    for i, cell in enumerate(table.get("cells", [])):
+        if not isinstance(cell, list) or len(cell) < 4 or not all(isinstance(n, str) for n in cell):
+            r.problem(w + ("cells",), f"cell {i + 1} must list at least 4 node ids, got {cell!r}")
+            continue
+        unknown = [n for n in cell if n not in node_index]
+        if unknown:
+            r.problem(w + ("cells",), f"cell {i + 1} names unknown node(s) {', '.join(unknown)}")
+            continue
+        cells.append(tuple(cell))
+    find = table.get("find_tetrahedra", False)
+    if not isinstance(find, bool):
+        r.problem(w + ("find_tetrahedra",), f"expected true or false, got {find!r}")
+        find = False
+    heights = []
+    for nid, h in r.table(table.get("heights"), w + ("heights",)).items():
+        if nid not in node_index:
+            r.problem(w + ("heights", nid), f"height for unknown node '{nid}'")
+        elif isinstance(h, bool) or not isinstance(h, (int, float)) or not math.isfinite(h):
+            r.problem(w + ("heights", nid), f"height must be a finite number, got {h!r}")
+        else:
+            heights.append((nid, float(h)))
+    return PolyhedralInput(tuple(cells), find, tuple(heights))

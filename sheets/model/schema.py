@@ -1,0 +1,62 @@
+"""The keys a project file may hold, table by table.
+
+Kept as data so unknown keys can be reported with the nearest known one, and so
+later stages add their tables in one place. See docs/project-file.md.
+"""
+
+from __future__ import annotations
+
+TOP_LEVEL = (
+    "project",
+    "units",
+    "geometry",
+    "materials",
+    "sections",
+    "nodes",
+    "members",
+    "member_defaults",
+    "supports",
+    "cases",
+    "combinations",
+    "analysis",
+    "prestress",
+    "drawing",
+    "design",
+    "polyhedral",
+)
+
+PROJECT = (
+    "title",
+    "number",
+    "client",
+    "calculation",
+    "revision",
+    "date",
+    "prepared_by",
+    "checked_by",
+    "status",
+    "template",
+    "revisions",
+)
+REVISION = ("revision", "date", "note")
+GEOMETRY = ("dimension", "vertical_axis", "nodes_file", "members_file")
+MATERIAL = ("elastic_modulus", "yield_strength", "density")
+SECTION = ("material", "area", "second_moment", "axial_stiffness")
+MEMBER = ("ends", "section", "role", "group")
+MEMBER_DEFAULTS = ("section", "role", "group")
+CASE = ("title", "self_weight", "loads", "loads_file")
+COMBINATION = ("title", "factors")
+ANALYSIS = ("method", "rank_tolerance", "equilibrium_tolerance", "dense_limit")
+PRESTRESS = ("id", "method", "level", "member", "force")
+ANALYSIS_METHODS = ("auto", "elastic")
+PRESTRESS_METHODS = ("scaled", "feasible")
+DRAWING = ("embedding", "projection", "views", "minkowski_mix", "states")
+EMBEDDINGS = ("geometric", "combinatorial")
+NAMED_DIRECTIONS = {
+    "plan": (0.0, 0.0, 1.0),
+    "front": (0.0, -1.0, 0.0),
+    "side": (1.0, 0.0, 0.0),
+    "axonometric": (1.0, -1.0, 1.0),
+}
+DESIGN = ("partial_factor", "effective_length_factor", "slenderness_limit", "tension_slenderness_limit", "stress_limit")
+POLYHEDRAL = ("cells", "find_tetrahedra", "heights")

@@ -1,0 +1,1 @@
+"""Stage 4, render: figures of form, force and load-path, headless (matplotlib, pyvista off-screen)."""

@@ -11,6 +11,7 @@ import difflib
 import hashlib
 import io
 import math
+import re
 import sys
 from pathlib import Path
 from types import MappingProxyType
@@ -123,8 +124,10 @@ def load_project(path: str | Path) -> Project:
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        line = getattr(exc, "lineno", None)
-        msg = getattr(exc, "msg", str(exc))
+        # tomllib puts the place in the message: "... (at line 3, column 7)"
+        found = re.search(r"\(at line (\d+), column \d+\)", str(exc))
+        line = int(found.group(1)) if found else None
+        msg = str(exc)
         raise ProjectError([Problem(str(path), "", f"not valid TOML: {msg}", "fix the syntax at that line", line)])
     reader = _Reader(path, text)
     project = _build(reader, data)
@@ -318,6 +321,9 @@ def _nodes(r: _Reader, data: dict, geometry: dict, dim: int, units: DisplayUnits
     ids: list[str] = []
     coords: list[list[float]] = []
     seen: dict[str, str] = {}
+    # A node whose coordinates cannot be read stays known (already reported), so
+    # members and loads naming it are not reported again as naming an unknown node.
+    unreadable = [math.nan] * dim
 
     def add(nid: str, xyz, where: Path_, file=None, line=None):
         if not nid:
@@ -334,12 +340,10 @@ def _nodes(r: _Reader, data: dict, geometry: dict, dim: int, units: DisplayUnits
         cols = ("id",) + AXES[:dim]
         for line, file, row in _csv_rows(r, geometry["nodes_file"], ("geometry", "nodes_file"), cols):
             xyz = _coordinate_vector(r, [row[a] for a in AXES[:dim]], dim, units, ("geometry", "nodes_file"), "length", file, line)
-            if xyz is not None:
-                add(row["id"], xyz, ("geometry", "nodes_file"), file, line)
+            add(row["id"], xyz or unreadable, ("geometry", "nodes_file"), file, line)
     for nid, value in r.table(data.get("nodes"), ("nodes",)).items():
         xyz = _coordinate_vector(r, value, dim, units, ("nodes", nid), "length")
-        if xyz is not None:
-            add(nid, xyz, ("nodes", nid))
+        add(nid, xyz or unreadable, ("nodes", nid))
     if not ids and not r.problems:
         r.problem(("nodes",), "the project has no nodes", "add a [nodes] table or geometry.nodes_file")
     return ids, np.array(coords, dtype=float).reshape(-1, dim)
@@ -403,9 +407,13 @@ def _members(r: _Reader, data: dict, geometry: dict, node_index: dict, sections:
 def _check_geometry(r: _Reader, node_ids, coords: np.ndarray, members):
     if len(node_ids) < 2:
         return
-    extent = float(np.ptp(coords, axis=0).max()) or 1.0
+    readable = np.flatnonzero(np.isfinite(coords).all(axis=1))
+    if len(readable) < 2:
+        return
+    extent = float(np.ptp(coords[readable], axis=0).max()) or 1.0
     tol = 1e-9 * extent
-    for i, j in sorted(cKDTree(coords).query_pairs(tol)):
+    for a, b in sorted(cKDTree(coords[readable]).query_pairs(tol)):
+        i, j = readable[a], readable[b]
         r.problem(("nodes", node_ids[j]), f"node '{node_ids[j]}' coincides with node '{node_ids[i]}'", "merge them or move one")
     index = {nid: i for i, nid in enumerate(node_ids)}
     pairs: dict[tuple[int, int], str] = {}
@@ -414,12 +422,13 @@ def _check_geometry(r: _Reader, node_ids, coords: np.ndarray, members):
         if key in pairs:
             r.problem(("members", mid), f"member '{mid}' joins the same nodes as member '{pairs[key]}'", "remove the duplicate or merge their sections")
         pairs[key] = mid
-        if np.linalg.norm(coords[index[a]] - coords[index[b]]) <= tol and a != b:
+        if a != b and np.linalg.norm(coords[index[a]] - coords[index[b]]) <= tol:
             r.problem(("members", mid), f"member '{mid}' has zero length", "its end nodes coincide")
 
 
 def _supports(r: _Reader, data: dict, node_index: dict, dim: int) -> np.ndarray:
     fixed = np.zeros((len(node_index), dim), dtype=bool)
+    problems_before = len(r.problems)
     for nid, value in r.table(data.get("supports"), ("supports",)).items():
         w = ("supports", nid)
         if nid not in node_index:
@@ -434,7 +443,7 @@ def _supports(r: _Reader, data: dict, node_index: dict, dim: int) -> np.ndarray:
             continue
         for a in axes:
             fixed[node_index[nid], AXES.index(a)] = True
-    if not fixed.any() and "supports" in data:
+    if not fixed.any() and "supports" in data and len(r.problems) == problems_before:
         r.problem(("supports",), "no translation is fixed anywhere", "fix at least the rigid-body motions")
     return fixed
 

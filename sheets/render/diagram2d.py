@@ -1,0 +1,524 @@
+"""Form and force diagrams side by side, and the closure check, as 2D figures (matplotlib, headless).
+
+Figures are built on ``matplotlib.figure.Figure`` without pyplot (no global
+state, no display). A 3D frame is drawn in its embedding's projection: the
+form as projected, the force diagram projected the same way, so every force
+edge stays parallel to its member on the page.
+
+Public API (also used by the report stage and the cells / Minkowski figures):
+
+Axis-level helpers, drawing one diagram into a given ``Axes``:
+    ``draw_form(ax, diagram, labels=None)``  members coloured by sense, widths
+        proportional to |force|, load and reaction arrows along their rays,
+        crossing vertices, member ids and Bow's-notation spaces (capitals);
+    ``draw_force(ax, diagram, labels=None)``  the force diagram with each edge
+        labelled by the member (or ``P@node`` / ``R@node``) it stands for and
+        its points lettered in lower case;
+    ``scale_bar(ax, points, unit, factor, note="")``  a round-length bar;
+    ``role_handles(diagram)``  legend handles for the roles present.
+Figure-level functions, each writing one file and returning its path:
+    ``form_force_figure(diagram, path, fmt=None)``
+    ``verification_figure(diagram, path, fmt=None)``
+    ``save_figure(fig, path, fmt=None)``  deterministic bytes for png/svg/pdf
+        (and the report stage's ``.rlvec``), written atomically.
+Report-stage adapters ``f(analysis, state_id, path, fmt=None)``:
+    ``reciprocal_figure`` and ``closure_figure``.
+
+Labels are drawn up to ``LABELS_UP_TO`` members / spaces; beyond that the
+figure says they are left out (the JSON/DXF exports carry every id).
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import matplotlib
+import numpy as np
+from matplotlib.collections import LineCollection
+from matplotlib.figure import Figure
+from matplotlib.lines import Line2D
+from matplotlib.patches import FancyArrowPatch
+
+from sheets.export.atomic import atomic_path
+from sheets.reciprocal.anchors import arrow_sides, space_anchors
+from sheets.reciprocal.diagram import ForceDiagram, force_diagram
+from sheets.reciprocal.embedding import IN_PLANE
+from sheets.render import palette
+
+FONT = 6.5
+LABELS_UP_TO = 120  # members beyond which member labels are left out (2D frames)
+LABELS_UP_TO_3D = 40  # the same for a projected 3D frame, whose members overlap more
+SPACES_UP_TO = 80  # spaces beyond which Bow's-notation letters are left out
+CROSSING_LIST = 10  # crossings listed by name under the figure
+
+# Same input, same bytes: fixed SVG ids, text as paths, no dates in the metadata.
+DETERMINISTIC_RC = {"svg.hashsalt": "sheets", "svg.fonttype": "path", "pdf.fonttype": 42, "ps.fonttype": 42}
+METADATA = {
+    "png": {"Software": None},
+    "svg": {"Date": None, "Creator": None},
+    "pdf": {"CreationDate": None, "ModDate": None, "Creator": None, "Producer": None},
+}
+ROLE_STYLE = {  # colour, dashes
+    "tension": (palette.TENSION, "solid"),
+    "compression": (palette.COMPRESSION, "solid"),
+    "zero": (palette.ZERO_FORCE, "solid"),
+    "load": (palette.LOAD, "solid"),
+    "reaction": (palette.REACTION, "solid"),
+    "load+reaction": (palette.REACTION, (0, (4, 1.5))),
+}
+ROLE_NAME = {
+    "tension": "tension",
+    "compression": "compression",
+    "zero": "zero force",
+    "load": "load",
+    "reaction": "reaction",
+    "load+reaction": "load + reaction at a support (their resultant)",
+}
+
+
+# -- saving ------------------------------------------------------------------
+
+
+def save_figure(fig: Figure, path: str | Path, fmt: str | None = None, dpi: int = 200) -> Path:
+    """Write ``fig`` to ``path`` (format from ``fmt`` or the suffix), atomically and reproducibly."""
+    path = Path(path)
+    fmt = (fmt or path.suffix.lstrip(".") or "png").lower()
+    if path.suffix.lstrip(".").lower() != fmt:
+        path = path.with_name(path.name + "." + fmt) if not path.suffix else path.with_suffix("." + fmt)
+    options = {"format": fmt, "dpi": dpi}
+    if fmt in METADATA:
+        options["metadata"] = METADATA[fmt]
+    with matplotlib.rc_context(DETERMINISTIC_RC), atomic_path(path) as tmp:
+        fig.savefig(tmp, **options)
+    return path
+
+
+# -- small helpers -----------------------------------------------------------
+
+
+def _round_length(extent: float) -> float:
+    """A round length (1, 2 or 5 x 10^k) of about a quarter of ``extent``."""
+    if not extent > 0:
+        return 1.0
+    step = 10 ** math.floor(math.log10(extent / 4))
+    for mult in (5, 2, 1):
+        if mult * step <= extent / 3:
+            return mult * step
+    return step
+
+
+def scale_bar(ax, points: np.ndarray, unit: str, factor: float, note: str = "") -> None:
+    """A bar of a round length (display unit ``unit`` = ``factor`` SI units) under ``points``."""
+    points = np.asarray(points, dtype=float).reshape(-1, 2)
+    extent = float(np.ptp(points, axis=0).max()) if len(points) > 1 else 0.0
+    extent = extent or 1.0
+    length = _round_length(extent / factor)
+    size = length * factor
+    bottom = points[:, 1].min()
+    drawn = ax.dataLim
+    if np.isfinite(drawn.y0) and drawn.height > 0:  # below whatever is drawn already (arrows included)
+        bottom = min(bottom, drawn.y0)
+    x0, y0 = points[:, 0].min(), bottom - 0.08 * extent
+    tick = 0.012 * extent
+    ax.plot([x0, x0 + size], [y0, y0], color=palette.LABEL, lw=1.2, solid_capstyle="butt")
+    for x in (x0, x0 + size):
+        ax.plot([x, x], [y0 - tick, y0 + tick], color=palette.LABEL, lw=0.8)
+    ax.text(x0 + size / 2, y0 - 2 * tick, f"{length:g} {unit}{note}", ha="center", va="top", fontsize=FONT)
+    ax.update_datalim([[x0, y0 - 0.06 * extent]])
+
+
+def _roles_present(diagram: ForceDiagram) -> list[str]:
+    present = set(diagram.element_roles)
+    return [r for r in ROLE_STYLE if r in present]
+
+
+def role_handles(diagram: ForceDiagram) -> list[Line2D]:
+    """Legend entries for every role in the diagram, crossings and the width scale."""
+    largest = diagram.force_scale
+    units = diagram.units
+    handles = []
+    present = _roles_present(diagram)
+    graph = diagram.graph
+    if "load" not in present and np.abs(graph.external_loads).max(initial=0.0) > 0:
+        present.append("load")  # drawn as its own arrow in the form even where merged with a reaction
+    if "reaction" not in present and np.abs(graph.external_reactions).max(initial=0.0) > 0:
+        present.append("reaction")
+    for role in [r for r in ROLE_STYLE if r in present]:
+        colour, dashes = ROLE_STYLE[role]
+        width = palette.line_width(0 if role == "zero" else largest / 2, largest)
+        handles.append(Line2D([], [], color=colour, lw=width, ls=dashes, label=ROLE_NAME[role]))
+    handles.append(Line2D([], [], color=palette.LABEL, lw=palette.line_width(largest, largest),
+                          label=f"width {palette.line_width(largest, largest):.1f} pt = "
+                                f"{units.to_display(largest, 'force'):.4g} {units.label('force')}"))
+    if any(not c.node for c in diagram.crossings):
+        handles.append(Line2D([], [], marker="o", ls="", ms=4, mfc="white", mec=palette.CROSSING, mew=1.2,
+                              label="crossing vertex (X): edges cross in the view"))
+    if any(c.node for c in diagram.crossings):
+        handles.append(Line2D([], [], marker="o", ls="", ms=7, mfc="none", mec=palette.CROSSING, mew=1.0,
+                              label="edge passing through a node in the view"))
+    return handles
+
+
+def _edge_tag(diagram: ForceDiagram, element: int) -> str:
+    """Label of an element: the member id, or P@node / R@node / P+R@node for an external force."""
+    graph = diagram.graph
+    if element < graph.n_members:
+        return graph.element_ids[element]
+    node = graph.node_ids[graph.tails[element]]
+    return {"load": "P", "reaction": "R"}.get(graph.kinds[element], "P+R") + "@" + node
+
+
+def _drawing_points(diagram: ForceDiagram, vectors: np.ndarray) -> np.ndarray:
+    """Force-diagram (or any force) vectors in the drawing plane."""
+    return diagram.embedding.projection.apply(vectors) if diagram.dim == 3 else np.asarray(vectors, dtype=float)
+
+
+def _show_labels(diagram: ForceDiagram, labels: bool | None) -> bool:
+    limit = LABELS_UP_TO if diagram.dim == 2 else LABELS_UP_TO_3D
+    return diagram.graph.n_members <= limit if labels is None else labels
+
+
+def _text(ax, x, y, text, **kw):
+    style = dict(fontsize=FONT - 0.5, color=palette.LABEL, ha="center", va="center", zorder=7,
+                 bbox=dict(boxstyle="round,pad=0.1", fc="white", ec="none", alpha=0.8))
+    style.update(kw)
+    ax.text(x, y, text, **style)
+
+
+# -- form ----------------------------------------------------------------------
+
+
+def draw_form(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
+    """The form diagram of ``diagram`` in its drawing plane (see the module docstring)."""
+    graph, emb = diagram.graph, diagram.embedding
+    m = graph.n_members
+    pts = emb.points
+    largest = diagram.force_scale
+    extent = float(np.ptp(pts[: graph.n_nodes], axis=0).max()) or 1.0
+    show = _show_labels(diagram, labels)
+
+    order = np.argsort(np.abs(graph.forces[:m]), kind="stable")
+    roles = diagram.element_roles
+    segs = np.stack([pts[graph.tails[:m]], pts[graph.heads[:m]]], axis=1)[order]
+    colours = [ROLE_STYLE[roles[e]][0] for e in order]
+    widths = [palette.line_width(graph.forces[e], largest) for e in order]
+    ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, capstyle="round", zorder=2))
+    ax.scatter(pts[: graph.n_nodes, 0], pts[: graph.n_nodes, 1], s=5 if show else 1, color=palette.NODE, zorder=3, lw=0)
+    _external_arrows(ax, diagram, extent, show)
+    _crossing_marks(ax, diagram, show)
+    if show:
+        mids = segs.mean(axis=1)
+        for e, (x, y) in zip(order, mids):
+            _text(ax, x, y, graph.element_ids[e])
+        if diagram.faces.count <= SPACES_UP_TO:
+            anchors = space_anchors(diagram)
+            for f, label in enumerate(diagram.space_labels):
+                if np.all(np.isfinite(anchors[f])):
+                    ax.text(*anchors[f], label, fontsize=FONT + 1.5, fontweight="bold", color=palette.LABEL,
+                            ha="center", va="center", zorder=6)
+    ax.set_aspect("equal", adjustable="datalim")
+    ax.set_axis_off()
+    units = diagram.units
+    note = " (true length in the view plane)" if diagram.dim == 3 else ""
+    scale_bar(ax, pts[: graph.n_nodes], units.label("length"), units.factor("length"), note)
+
+
+def _external_arrows(ax, diagram: ForceDiagram, extent: float, show: bool) -> None:
+    graph, emb = diagram.graph, diagram.embedding
+    m = graph.n_members
+    if graph.n_elements == m:
+        return
+    pts = emb.points
+    sides = arrow_sides(diagram)
+    largest = float(graph.forces[m:].max(initial=0.0)) or 1.0
+    for r, node in enumerate(graph.external_nodes.tolist()):
+        x = pts[node]
+        ray = emb.ray_directions[r]
+        if emb.ray_reach[r] > 0:  # the edge's route out to the ideal vertex crosses members: show it
+            end = x + ray * (emb.ray_reach[r] + 0.04 * extent)
+            ax.plot([x[0], end[0]], [x[1], end[1]], color=palette.CROSSING, lw=0.6, ls=(0, (2, 2)), zorder=1)
+        parts = ((graph.external_loads[r], palette.LOAD, "P"), (graph.external_reactions[r], palette.REACTION, "R"))
+        for vector, colour, tag in parts:
+            size = float(np.linalg.norm(vector))
+            if size <= 1e-12 * largest:
+                continue
+            drawn = _drawing_points(diagram, vector[None])[0]
+            length = (0.05 + 0.13 * size / largest) * extent
+            if np.linalg.norm(drawn) <= IN_PLANE * size:  # along the view: a circle with a dot (towards) or cross
+                toward = float(np.asarray(emb.projection.direction) @ vector) > 0
+                ax.scatter([x[0]], [x[1]], s=40, marker="o", facecolor="white", edgecolor=colour, lw=1.0, zorder=6)
+                ax.scatter([x[0]], [x[1]], s=14 if toward else 22, marker="." if toward else "x", color=colour, lw=1.0, zorder=7)
+                label_at = x + ray * 0.04 * extent
+            else:
+                direction = drawn / np.linalg.norm(drawn)
+                tail, head = (x, x + length * direction) if sides[r] > 0 else (x - length * direction, x)
+                ax.add_patch(FancyArrowPatch(tuple(tail), tuple(head), arrowstyle="-|>", mutation_scale=7,
+                                             lw=palette.line_width(size, diagram.force_scale) * 0.7,
+                                             color=colour, zorder=5, shrinkA=0, shrinkB=0))
+                label_at = tail if sides[r] < 0 else head
+            if show:
+                ax.annotate(f"{tag}@{graph.node_ids[node]}", label_at, xytext=(0, 3), textcoords="offset points",
+                            fontsize=FONT - 1, color=colour, ha="center", va="bottom", zorder=7)
+
+
+def _crossing_marks(ax, diagram: ForceDiagram, show: bool) -> None:
+    new = [c for c in diagram.crossings if not c.node]
+    through = [c for c in diagram.crossings if c.node]
+    if new:
+        xy = np.array([c.point for c in new])
+        ax.scatter(xy[:, 0], xy[:, 1], s=16, marker="o", facecolor="white", edgecolor=palette.CROSSING, lw=1.0, zorder=4)
+    if through:
+        xy = np.array([c.point for c in through])
+        ax.scatter(xy[:, 0], xy[:, 1], s=60, marker="o", facecolor="none", edgecolor=palette.CROSSING, lw=0.9, zorder=4)
+    if show and len(diagram.crossings) <= 3 * CROSSING_LIST:
+        for c in diagram.crossings:
+            ax.annotate(c.label, c.point, xytext=(3, -3), textcoords="offset points", fontsize=FONT - 1,
+                        color=palette.CROSSING, ha="left", va="top", zorder=7)
+
+
+# -- force ---------------------------------------------------------------------
+
+
+def draw_force(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
+    """The force diagram of ``diagram`` (projected like the form for a 3D frame)."""
+    pts = _drawing_points(diagram, diagram.points)
+    left, right = diagram.faces.left, diagram.faces.right
+    forces = diagram.edge_forces
+    largest = diagram.force_scale
+    roles = diagram.role
+    order = np.argsort(np.abs(forces), kind="stable")
+    segs = np.stack([pts[left], pts[right]], axis=1)[order]
+    colours = [ROLE_STYLE[roles[k]][0] for k in order]
+    styles = [ROLE_STYLE[roles[k]][1] for k in order]
+    widths = [palette.line_width(forces[k], largest) for k in order]
+    ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, linestyles=styles, capstyle="round", zorder=2))
+    ax.scatter(pts[:, 0], pts[:, 1], s=4, color=palette.NODE, zorder=3, lw=0)
+    extent = float(np.ptp(pts, axis=0).max()) if len(pts) > 1 else 0.0
+    extent = extent or 1.0
+    if _show_labels(diagram, labels):
+        shown = set()
+        for k in order[::-1]:  # strongest first, one label per element and position
+            a, b = pts[left[k]], pts[right[k]]
+            if np.linalg.norm(b - a) < 0.02 * extent:
+                continue
+            key = (diagram.edge_element[k], tuple(np.round((a + b) / (0.01 * extent))))
+            if key in shown:
+                continue
+            shown.add(key)
+            _text(ax, *((a + b) / 2), _edge_tag(diagram, int(diagram.edge_element[k])))
+        if diagram.faces.count <= SPACES_UP_TO:
+            _point_labels(ax, diagram, pts, extent)
+    ax.set_aspect("equal", adjustable="datalim")
+    ax.set_axis_off()
+    units = diagram.units
+    scale_bar(ax, pts, units.label("force"), units.factor("force"))
+
+
+def _point_labels(ax, diagram: ForceDiagram, pts: np.ndarray, extent: float) -> None:
+    """Lower-case space letters at the force-diagram points; coincident points share one label 'c=d'."""
+    key = np.round(pts / (1e-6 * extent)).astype(np.int64)
+    groups: dict[tuple, list[str]] = {}
+    where: dict[tuple, np.ndarray] = {}
+    for f, label in enumerate(diagram.space_labels):
+        k = tuple(key[f])
+        groups.setdefault(k, []).append(label.lower())
+        where[k] = pts[f]
+    for k, names in groups.items():
+        names.sort(key=lambda s: (len(s), s))
+        ax.annotate("=".join(names), where[k], xytext=(3, 3), textcoords="offset points", fontsize=FONT + 0.5,
+                    fontstyle="italic", color=palette.NODE, zorder=8)
+
+
+# -- figures -------------------------------------------------------------------
+
+
+def _subtitle(diagram: ForceDiagram) -> str:
+    return f"{diagram.title} - {diagram.state_kind} {diagram.state_id}: {diagram.state_title}".strip(" -")
+
+
+def _wrap(text: str, width: int = 150) -> str:
+    import textwrap
+
+    return "\n".join(textwrap.wrap(text, width))
+
+
+def _crossing_text(diagram: ForceDiagram) -> str:
+    if not diagram.crossings:
+        return ""
+    parts = []
+    for c in diagram.crossings[:CROSSING_LIST]:
+        what = " x ".join(_plain_id(e) for e in c.elements)
+        parts.append(f"{c.label} {what}" + (f" (through node {c.node})" if c.node else ""))
+    more = len(diagram.crossings) - CROSSING_LIST
+    tail = f"; and {more} more (all in the JSON/DXF exports)" if more > 0 else ""
+    return "Crossing vertices (in equilibrium, no node of the frame): " + "; ".join(parts) + tail
+
+
+def _plain_id(element_id: str) -> str:
+    return element_id.replace("external:", "external force at ")
+
+
+def form_force_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None, labels: bool | None = None) -> Path:
+    """Form and force diagram side by side with matching labels, legend and scales; returns the path written."""
+    fig = Figure(figsize=(11.0, 6.2))
+    ax_form = fig.add_axes((0.01, 0.2, 0.48, 0.64))
+    ax_force = fig.add_axes((0.51, 0.2, 0.48, 0.64))
+    draw_form(ax_form, diagram, labels)
+    draw_force(ax_force, diagram, labels)
+    units = diagram.units
+    ax_form.set_title("Form diagram" + (f" ({diagram.embedding.projection.name} projection)" if diagram.dim == 3 else ""),
+                      fontsize=FONT + 2)
+    ax_force.set_title(f"Force diagram (drawn scale 1 m = {units.to_display(diagram.scale, 'force'):g} {units.label('force')})",
+                       fontsize=FONT + 2)
+    fig.suptitle(_subtitle(diagram), fontsize=FONT + 3, y=0.985)
+    labelled = _show_labels(diagram, labels)
+    fig.text(0.5, 0.94, _wrap(diagram.embedding.note[:1].upper() + diagram.embedding.note[1:]), ha="center", va="top",
+             fontsize=FONT, color=palette.LABEL)
+    handles = role_handles(diagram)
+    fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.085), ncol=min(len(handles), 4),
+               fontsize=FONT, frameon=False)
+    check = "closes" if diagram.passed else "DOES NOT CLOSE"
+    footer = (f"Diagram {check} to {diagram.tolerance:g}: largest edge error {diagram.closure_error:.1e}, load line "
+              f"{diagram.load_line_error:.1e}, largest node polygon {float(diagram.node_error.max(initial=0)):.1e} "
+              f"(relative to the largest force, {units.to_display(diagram.force_scale, 'force'):.4g} {units.label('force')}). "
+              f"Spaces A, B, ... (Bow's notation) in the form are points a, b, ... in the force diagram; "
+              f"a member is named by the two spaces it parts.")
+    if not labelled:
+        footer += (f" Labels left out above {LABELS_UP_TO if diagram.dim == 2 else LABELS_UP_TO_3D} members"
+                   f"{'' if diagram.dim == 2 else ' (3D)'}.")
+    elif diagram.faces.count > SPACES_UP_TO:
+        footer += f" Space letters left out above {SPACES_UP_TO} spaces."
+    crossing = _crossing_text(diagram)
+    fig.text(0.5, 0.075, _wrap(footer + (" " + crossing if crossing else ""), 190), ha="center", va="top",
+             fontsize=FONT - 0.5, color=palette.LABEL)
+    return save_figure(fig, path, fmt)
+
+
+def verification_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None) -> Path:
+    """The closure check: node polygons and load line, edge errors, and the load line drawn head to tail."""
+    fig = Figure(figsize=(11.0, 4.4))
+    ax_nodes = fig.add_axes((0.06, 0.3, 0.27, 0.56))
+    ax_edges = fig.add_axes((0.40, 0.3, 0.27, 0.56))
+    ax_line = fig.add_axes((0.71, 0.16, 0.28, 0.72))
+    _closure_bars(ax_nodes, diagram)
+    _edge_bars(ax_edges, diagram)
+    _load_line(ax_line, diagram)
+    fig.suptitle(f"Closure of the force diagram - {_subtitle(diagram)}", fontsize=FONT + 3, y=0.985)
+    handles = [Line2D([], [], color=palette.NODE, ls="--", lw=0.8, label=f"tolerance {diagram.tolerance:g} (relative)"),
+               Line2D([], [], color=palette.TENSION, lw=4, label="within tolerance"),
+               Line2D([], [], color=palette.COMPRESSION, lw=4, label="beyond tolerance"),
+               Line2D([], [], marker="o", ls="", color=palette.LABEL, ms=3, label="angle edge-member (rad)")]
+    fig.legend(handles=handles, loc="lower left", bbox_to_anchor=(0.05, 0.0), ncol=4, fontsize=FONT, frameon=False)
+    return save_figure(fig, path, fmt)
+
+
+FLOOR = 1e-18  # exact zeros shown at this height on the log axes
+
+
+def _bar_colours(values: np.ndarray, tolerance: float):
+    return [palette.TENSION if v <= tolerance else palette.COMPRESSION for v in values]
+
+
+def _log_axis(ax, labels: list[str], title: str, ylabel: str, tolerance: float):
+    ax.set_yscale("log")
+    ax.set_ylim(FLOOR / 2, max(10 * tolerance, 1e-6))
+    ax.axhline(tolerance, color=palette.NODE, ls="--", lw=0.8)
+    ax.set_title(title, fontsize=FONT + 1)
+    ax.set_ylabel(ylabel, fontsize=FONT)
+    ax.tick_params(labelsize=FONT - 0.5)
+    if len(labels) <= 40:
+        ax.set_xticks(range(len(labels)))
+        ax.set_xticklabels(labels, rotation=90, fontsize=FONT - 1)
+    else:
+        ax.set_xlabel(f"{len(labels)} items, in file order", fontsize=FONT)
+
+
+def _closure_bars(ax, diagram: ForceDiagram) -> None:
+    graph, emb = diagram.graph, diagram.embedding
+    values = list(diagram.node_error)
+    labels = list(graph.node_ids)
+    if emb.ideal > emb.n_nodes:
+        values.append(float(diagram.vertex_error[emb.n_nodes: emb.ideal].max()))
+        labels.append("crossings (max)")
+    values.append(diagram.load_line_error)
+    labels.append("load line")
+    values = np.maximum(np.array(values), FLOOR)
+    ax.bar(range(len(values)), values, color=_bar_colours(values, diagram.tolerance), width=0.8)
+    _log_axis(ax, labels, "Force polygon of each node, and the load line", "|sum of forces| / largest force", diagram.tolerance)
+
+
+def _edge_bars(ax, diagram: ForceDiagram) -> None:
+    graph = diagram.graph
+    per_element = np.zeros(graph.n_elements)
+    np.maximum.at(per_element, diagram.edge_element, diagram.edge_error)
+    values = np.maximum(per_element, FLOOR)
+    labels = [_edge_tag(diagram, e) for e in range(graph.n_elements)]
+    ax.bar(range(len(values)), values, color=_bar_colours(values, diagram.tolerance), width=0.8)
+    angles = np.maximum(np.r_[diagram.parallel_error, np.zeros(graph.n_elements - graph.n_members)], FLOOR)
+    ax.plot(range(graph.n_members), angles[: graph.n_members], "o", ms=2, color=palette.LABEL)
+    _log_axis(ax, labels, "Each force edge against the analysed force", "|drawn - analysed| / largest force", diagram.tolerance)
+
+
+def _load_line(ax, diagram: ForceDiagram) -> None:
+    """External forces head to tail in their order around the frame, from point a: the gap is the closure."""
+    graph, emb, faces = diagram.graph, diagram.embedding, diagram.faces
+    units = diagram.units
+    ax.set_aspect("equal", adjustable="datalim")
+    ax.set_axis_off()
+    ax.set_title("Load line, forces head to tail around the frame", fontsize=FONT + 1)
+    tails = np.stack([emb.tails, emb.heads], axis=1).reshape(-1)
+    around = emb.rotation[tails[emb.rotation] == emb.ideal]
+    if not len(around):
+        ax.text(0.5, 0.5, "no external forces: a self-stress state\n(the load line is empty)", ha="center", va="center",
+                transform=ax.transAxes, fontsize=FONT + 1)
+        return
+    around = np.roll(around, 1)
+    start_face = faces.face_of[around[0]]
+    here = diagram.points[start_face].astype(float)
+    pts = [here]
+    face = start_face
+    for h in around.tolist():
+        k = h // 2
+        w = graph.vectors[emb.element[k]]
+        if faces.left[k] == face:
+            here, face = here + w, faces.right[k]
+        else:
+            here, face = here - w, faces.left[k]
+        pts.append(here)
+    pts3 = np.array(pts)
+    gap = float(np.linalg.norm(pts3[-1] - pts3[0])) / (diagram.force_scale or 1.0)
+    xy = _drawing_points(diagram, pts3)
+    largest = diagram.force_scale
+    for i, h in enumerate(around.tolist()):
+        e = int(emb.element[h // 2])
+        colour, dashes = ROLE_STYLE[graph.kinds[e]]
+        ax.add_patch(FancyArrowPatch(tuple(xy[i]), tuple(xy[i + 1]), arrowstyle="-|>", mutation_scale=8,
+                                     lw=palette.line_width(graph.forces[e], largest), color=colour, ls=dashes, zorder=3,
+                                     shrinkA=0, shrinkB=0))
+        if len(around) <= 40:  # labels alternate sides: collinear loads overlap on the line
+            ax.annotate(_edge_tag(diagram, e), (xy[i] + xy[i + 1]) / 2, xytext=(8 if i % 2 else -8, 0),
+                        textcoords="offset points", ha="left" if i % 2 else "right", va="center", fontsize=FONT - 0.5,
+                        color=colour, zorder=5)
+    ax.scatter(xy[:1, 0], xy[:1, 1], s=20, color=palette.NODE, zorder=4)
+    ax.annotate(f"start/end: {diagram.space_labels[start_face].lower()}", xy[0], xytext=(4, 4), textcoords="offset points",
+                fontsize=FONT, zorder=5)
+    ax.update_datalim(xy)
+    ax.autoscale_view()
+    ax.text(0.5, -0.02, f"closing gap |sum of external forces|\n= {gap:.1e} x largest force "
+                        f"({'closed' if gap <= diagram.tolerance else 'NOT closed'} to {diagram.tolerance:g})",
+            ha="center", va="top", transform=ax.transAxes, fontsize=FONT)
+    scale_bar(ax, xy, units.label("force"), units.factor("force"))
+
+
+# -- report-stage adapters --------------------------------------------------------
+
+
+def reciprocal_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None) -> Path:
+    """``form_force_figure`` for one state of an analysis (signature of the report's figure sources)."""
+    return form_force_figure(force_diagram(analysis.project, analysis.state(state_id)), path, fmt)
+
+
+def closure_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None) -> Path:
+    """``verification_figure`` for one state of an analysis."""
+    return verification_figure(force_diagram(analysis.project, analysis.state(state_id)), path, fmt)

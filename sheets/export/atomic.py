@@ -35,6 +35,8 @@ def atomic_path(path: str | Path) -> Iterator[Path]:
     tmp = Path(name)
     try:
         yield tmp
+        # mkstemp makes the file private (0600); outputs are ordinary files, readable by others.
+        os.chmod(tmp, 0o644)
         os.replace(tmp, path)
     finally:
         if tmp.exists():

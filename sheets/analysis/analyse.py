@@ -56,7 +56,8 @@ class Analysis:
 
     @property
     def passed(self) -> bool:
-        return self.determinacy.maxwell_holds and all(s.checks.passed for s in self.states)
+        det = self.determinacy
+        return det.maxwell_holds and det.bases_verified and all(s.checks.passed for s in self.states)
 
 
 def self_weight_loads(project: Project, case: LoadCase) -> np.ndarray:

@@ -17,7 +17,7 @@ small negative shift (K + c I is positive definite, so its sparse LU is stable).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 import scipy.linalg as la
@@ -42,6 +42,9 @@ class Determinacy:
     tolerance: float  # relative to the largest singular value
     mechanism_modes: np.ndarray  # (n_free, k) orthonormal, free-dof indexing
     self_stress_basis: np.ndarray | None  # (m, s) orthonormal; None if not computed (large sparse)
+    # Largest |A^T v| or |A s| over the computed null bases, over the largest singular value:
+    # the check that the counts s and k (and so Maxwell's rule, which holds for any rank) rest on.
+    null_residual: float = 0.0
 
     @property
     def n_free(self) -> int:
@@ -62,7 +65,13 @@ class Determinacy:
 
     @property
     def maxwell_holds(self) -> bool:
+        """Maxwell's rule: an arithmetic check on the counts (it holds for any rank r)."""
         return self.maxwell == self.self_stress - self.mechanisms
+
+    @property
+    def bases_verified(self) -> bool:
+        """The mechanism and self-stress bases are null to the rank tolerance (with a margin for rounding)."""
+        return self.null_residual <= 10 * self.tolerance
 
     @property
     def conditioning(self) -> float:
@@ -76,15 +85,23 @@ class Determinacy:
         return f"{statics}, {kin}"
 
 
+def null_residual(a_free: sp.spmatrix, modes: np.ndarray, basis: np.ndarray | None, largest: float) -> float:
+    if largest <= 0:
+        return 0.0
+    worst = float(np.abs(a_free.T @ modes).max(initial=0.0))
+    if basis is not None:
+        worst = max(worst, float(np.abs(a_free @ basis).max(initial=0.0)))
+    return worst / largest
+
+
 def determinacy(eq: Equilibrium, tolerance: float, dense_limit: int) -> Determinacy:
     a_free = eq.free_matrix
     n_free, m = a_free.shape
     dim = eq.unit.shape[1]
     n_nodes = eq.matrix.shape[0] // dim
     common = dict(n_nodes=n_nodes, n_members=m, dim=dim, n_fixed=int((~eq.free).sum()), tolerance=tolerance)
-    if max(n_free, m) <= dense_limit or min(n_free, m) < 20:
-        return _dense(a_free, common)
-    return _sparse(a_free, common)
+    found = _dense(a_free, common) if max(n_free, m) <= dense_limit or min(n_free, m) < 20 else _sparse(a_free, common)
+    return replace(found, null_residual=null_residual(a_free, found.mechanism_modes, found.self_stress_basis, found.largest_singular))
 
 
 def _dense(a_free: sp.spmatrix, common: dict) -> Determinacy:

@@ -53,8 +53,15 @@ class FrameSolver:
             t = self._stiffness_forces(d)
             return Solution(t, d, "linear-elastic")
         t = self._equilibrium_solve(p_free)
-        d = self._stiffness_solve(p_free) if self.has_stiffness else None
+        d = self._compatible_displacements(t, p_free) if self.has_stiffness else None
         return Solution(t, d, "equilibrium")
+
+    def _compatible_displacements(self, t: np.ndarray, p_free: np.ndarray) -> np.ndarray:
+        # Square, regular A: the elongations t L / EA fix d through compatibility A^T d = e, solved
+        # with the LU of A already made; K d = p would square the condition number of A.
+        if self.det.mechanisms == 0:
+            return self._equilibrium_lu.solve(t / self._member_stiffness, trans="T")
+        return self._stiffness_solve(p_free)
 
     # -- equilibrium alone -------------------------------------------------
     @cached_property

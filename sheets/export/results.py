@@ -83,6 +83,8 @@ def _determinacy(analysis: Analysis) -> dict[str, Any]:
         "smallest_kept_singular_value": _num(d.smallest_kept_singular),
         "conditioning": _num(d.conditioning),
         "rank_tolerance": _num(d.tolerance),
+        "null_space_residual": _num(d.null_residual),
+        "null_spaces_verified": d.bases_verified,
         "route": d.route,
         "classification": d.classification,
     }

@@ -59,10 +59,14 @@ class _Reader:
         self.lines = KeyLines(text)
         self.problems: list[Problem] = []
         self.hash = hashlib.sha256(text.encode("utf-8"))
+        # ("nodes" | "members", id) -> (file, line) of a CSV row; TOML entries are found by key path
+        self.csv_origin: dict[tuple[str, str], tuple[str, int]] = {}
 
     def problem(self, where: Path_, message: str, hint: str = "", *, file: str | None = None, line: int | None = None):
         if file is None:
             file, line = self.file, self.lines.line(where)
+        if not hint:  # every problem says where to look, at least
+            hint = f"see [{where[0]}] in docs/project-file.md" if where else "see docs/project-file.md"
         self.problems.append(Problem(file, ".".join(where), message, hint, line))
 
     def table(self, data: Any, where: Path_, *, required: bool = False) -> dict:
@@ -144,7 +148,7 @@ def _build(r: _Reader, data: dict) -> Project | None:
     r.known_keys(geometry, schema.GEOMETRY, ("geometry",))
     dim = geometry.get("dimension", 2)
     if dim not in (2, 3) or isinstance(dim, bool):
-        r.problem(("geometry", "dimension"), f"dimension must be 2 or 3, got {dim!r}")
+        r.problem(("geometry", "dimension"), f"dimension must be 2 or 3, got {dim!r}", "dimension = 2 for a plane frame, 3 for a space frame")
         dim = 2
     vertical = geometry.get("vertical_axis", "y" if dim == 2 else "z")
     if vertical not in AXES[:dim]:
@@ -207,7 +211,7 @@ def _units(r: _Reader, data: dict) -> DisplayUnits:
         try:
             si_factor(unit, kind)
         except UnitProblem as exc:
-            r.problem(("units", kind), str(exc))
+            r.problem(("units", kind), str(exc), f'e.g. {kind} = "{KINDS[kind][1]}"')
             continue
         chosen[kind] = unit
     return DisplayUnits(MappingProxyType(chosen))
@@ -300,12 +304,16 @@ def _csv_rows(r: _Reader, name: Any, where: Path_, columns: tuple[str, ...], opt
     for row in reader:
         if not any((v or "").strip() for v in row.values() if isinstance(v, str)):
             continue
+        if None in row or None in row.values():  # DictReader's marks for too many / too few values
+            count = len(header) + len(row.get(None) or []) - sum(v is None for v in row.values())
+            r.problem(where, f"'{name}' has {count} values on this line, its header names {len(header)} columns",
+                      f"give one value per column: {', '.join(header)}", file=str(path), line=reader.line_num)
         yield reader.line_num, str(path), {k: (v or "").strip() for k, v in row.items() if k is not None}
 
 
 def _coordinate_vector(r: _Reader, value: Any, dim: int, units: DisplayUnits, where: Path_, kind: str, file=None, line=None):
     if not isinstance(value, (list, tuple)) or len(value) != dim:
-        r.problem(where, f"expected {dim} components [{', '.join(AXES[:dim])}], got {value!r}", file=file, line=line)
+        r.problem(where, f"expected {dim} components [{', '.join(AXES[:dim])}], got {value!r}", f"give one value per axis, e.g. [{', '.join(['0'] * dim)}]", file=file, line=line)
         return None
     out = []
     for axis, v in zip(AXES, value):
@@ -327,12 +335,14 @@ def _nodes(r: _Reader, data: dict, geometry: dict, dim: int, units: DisplayUnits
 
     def add(nid: str, xyz, where: Path_, file=None, line=None):
         if not nid:
-            r.problem(where, "a node has an empty id", file=file, line=line)
+            r.problem(where, "a node has an empty id", "give every node an id", file=file, line=line)
             return
         if nid in seen:
             r.problem(where, f"duplicate node id '{nid}' (also at {seen[nid]})", "give every node its own id", file=file, line=line)
             return
         seen[nid] = f"{file or r.file}:{line or r.lines.line(where)}"
+        if file is not None:
+            r.csv_origin[("nodes", nid)] = (file, line)
         ids.append(nid)
         coords.append(xyz)
 
@@ -377,6 +387,8 @@ def _members(r: _Reader, data: dict, geometry: dict, node_index: dict, sections:
             r.problem(where, f"member '{mid}' has role '{role}'", f"role is one of {', '.join(ROLES)}", file=file, line=line)
             ok = False
         seen[mid] = f"{file or r.file}:{line or r.lines.line(where)}"
+        if file is not None:
+            r.csv_origin[("members", mid)] = (file, line)
         if ok:
             out.append((mid, start, end, section, role, group))
 
@@ -414,16 +426,18 @@ def _check_geometry(r: _Reader, node_ids, coords: np.ndarray, members):
     tol = 1e-9 * extent
     for a, b in sorted(cKDTree(coords[readable]).query_pairs(tol)):
         i, j = readable[a], readable[b]
-        r.problem(("nodes", node_ids[j]), f"node '{node_ids[j]}' coincides with node '{node_ids[i]}'", "merge them or move one")
+        file, line = r.csv_origin.get(("nodes", node_ids[j]), (None, None))
+        r.problem(("nodes", node_ids[j]), f"node '{node_ids[j]}' coincides with node '{node_ids[i]}'", "merge them or move one", file=file, line=line)
     index = {nid: i for i, nid in enumerate(node_ids)}
     pairs: dict[tuple[int, int], str] = {}
     for mid, a, b, *_ in members:
         key = tuple(sorted((index[a], index[b])))
+        file, line = r.csv_origin.get(("members", mid), (None, None))
         if key in pairs:
-            r.problem(("members", mid), f"member '{mid}' joins the same nodes as member '{pairs[key]}'", "remove the duplicate or merge their sections")
+            r.problem(("members", mid), f"member '{mid}' joins the same nodes as member '{pairs[key]}'", "remove the duplicate or merge their sections", file=file, line=line)
         pairs[key] = mid
         if a != b and np.linalg.norm(coords[index[a]] - coords[index[b]]) <= tol:
-            r.problem(("members", mid), f"member '{mid}' has zero length", "its end nodes coincide")
+            r.problem(("members", mid), f"member '{mid}' has zero length", "its end nodes coincide", file=file, line=line)
 
 
 def _supports(r: _Reader, data: dict, node_index: dict, dim: int) -> np.ndarray:
@@ -435,11 +449,11 @@ def _supports(r: _Reader, data: dict, node_index: dict, dim: int) -> np.ndarray:
             near = difflib.get_close_matches(nid, list(node_index), n=1)
             r.problem(w, f"support on unknown node '{nid}'", f"did you mean '{near[0]}'?" if near else "use a node id from [nodes]")
             continue
-        axes = AXES[:dim] if value == "all" else value
+        axes = list(AXES[:dim]) if value == "all" else value  # a list: the check below wants one
         if isinstance(axes, str):
             axes = list(axes)
         if not isinstance(axes, list) or not axes or any(a not in AXES[:dim] for a in axes):
-            r.problem(w, f"expected the fixed axes, e.g. \"{''.join(AXES[:dim])}\" or \"{AXES[dim - 1]}\", got {value!r}")
+            r.problem(w, f"expected the fixed axes, e.g. \"{''.join(AXES[:dim])}\" or \"{AXES[dim - 1]}\", got {value!r}", f"name axes among {', '.join(AXES[:dim])}, or \"all\"")
             continue
         for a in axes:
             fixed[node_index[nid], AXES.index(a)] = True
@@ -496,7 +510,7 @@ def _combinations(r: _Reader, data: dict, state_ids: set[str]) -> list[Combinati
                 near = difflib.get_close_matches(case_id, sorted(state_ids), n=1)
                 r.problem(w + ("factors", case_id), f"combination '{cid}' names an unknown case '{case_id}'", f"did you mean '{near[0]}'?" if near else "use a case id from [cases]")
             elif isinstance(f, bool) or not isinstance(f, (int, float)) or not math.isfinite(f):
-                r.problem(w + ("factors", case_id), f"factor must be a finite number, got {f!r}")
+                r.problem(w + ("factors", case_id), f"factor must be a finite number, got {f!r}", f"e.g. {case_id} = 1.5")
             else:
                 factors.append((case_id, float(f)))
         out.append(Combination(cid, r.text(table, "title", w, cid), tuple(factors)))

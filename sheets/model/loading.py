@@ -100,6 +100,13 @@ class _Reader:
         self.problem(where + (key,), f"expected text, got {value!r}")
         return default
 
+    def choice(self, table: dict, key: str, allowed: tuple[str, ...], default: str, where: Path_, what: str) -> str:
+        value = table.get(key, default)
+        if value not in allowed:
+            self.problem(where + (key,), f"unknown {what} {value!r}", f"use one of {', '.join(allowed)}")
+            return default
+        return value
+
     def quantity(self, value: Any, kind: str, units: DisplayUnits, where: Path_) -> float | None:
         try:
             return parse_value(value, kind, units.unit(kind))
@@ -548,10 +555,7 @@ def _options(r: _Reader, data: dict) -> AnalysisOptions:
     table = r.table(data.get("analysis"), w)
     r.known_keys(table, schema.ANALYSIS, w)
     defaults = AnalysisOptions()
-    method = table.get("method", defaults.method)
-    if method not in schema.ANALYSIS_METHODS:
-        r.problem(w + ("method",), f"unknown analysis method {method!r}", f"use one of {', '.join(schema.ANALYSIS_METHODS)}")
-        method = defaults.method
+    method = r.choice(table, "method", schema.ANALYSIS_METHODS, defaults.method, w, "analysis method")
 
     def number(key: str, default, check: Callable[[float], bool], rule: str):
         value = table.get(key, default)
@@ -573,10 +577,7 @@ def _drawing(r: _Reader, data: dict, dim: int, state_ids: set[str]) -> DrawingOp
     table = r.table(data.get("drawing"), w)
     r.known_keys(table, schema.DRAWING, w)
     defaults = DrawingOptions()
-    embedding = table.get("embedding", defaults.embedding)
-    if embedding not in schema.EMBEDDINGS:
-        r.problem(w + ("embedding",), f"unknown embedding {embedding!r}", f"use one of {', '.join(schema.EMBEDDINGS)}")
-        embedding = defaults.embedding
+    embedding = r.choice(table, "embedding", schema.EMBEDDINGS, defaults.embedding, w, "embedding")
     projection, name = defaults.projection, defaults.projection_name
     value = table.get("projection", name)
     if isinstance(value, str) and value in schema.NAMED_DIRECTIONS:

@@ -7,12 +7,19 @@ prints.
 
 from __future__ import annotations
 
+import hashlib
+import json
+import os
+import shutil
+import tempfile
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
 
 from sheets.analysis import Analysis, analyse
 from sheets.analysis.determinacy import Determinacy, determinacy
 from sheets.analysis.equilibrium import project_equilibrium
+from sheets.export.atomic import write_atomic
 from sheets.export.results import write_results_csv, write_results_json
 from sheets.model import Project, load_project
 
@@ -35,7 +42,9 @@ def solve(path: str | Path, progress: Progress | None = None) -> Analysis:
 
 def result_sections(analysis: Analysis) -> dict[str, Any]:
     """Sections later stages add to the results document (diagrams, cells, sizing)."""
-    return {}
+    from sheets.analysis.member_checks import member_checks, member_checks_results
+
+    return {"member_checks": member_checks_results(member_checks(analysis), analysis.project)}
 
 
 def write_results(analysis: Analysis, json_path: str | Path | None = None, csv_dir: str | Path | None = None) -> list[Path]:
@@ -45,3 +54,206 @@ def write_results(analysis: Analysis, json_path: str | Path | None = None, csv_d
     if csv_dir is not None:
         written.extend(write_results_csv(analysis, csv_dir))
     return written
+
+
+# -- the calculation sheet set (`sheets build`) ---------------------------------
+
+# The reciprocal diagrams are computed by their render stages while the figures are drawn ("figures").
+BUILD_STAGES = ("reading project", "analysis", "member checks", "figures", "results", "assembly", "writing files")
+CSV_CONTENTS = {
+    "members.csv": "every member: ends, length, section, role, group",
+    "forces.csv": "every member's force in every state",
+    "reactions.csv": "every reaction in every state",
+    "envelope.csv": "every member's largest tension and compression, with the state",
+    "checks.csv": "the equilibrium and load path checks of every state",
+    "determinacy.csv": "rank, self-stress states, mechanisms, Maxwell's rule, conditioning",
+    "displacements.csv": "every node's displacement in every state where computed",
+    "member_checks.csv": "every member's indicative checks: demands, resistances, slenderness, utilisations",
+}
+
+
+@dataclass(frozen=True)
+class SheetBuild:
+    pdf: Path
+    files: tuple[Path, ...]  # everything written, the PDF last
+    passed: bool  # every verification check passed
+
+
+def default_out_dir(project_path: str | Path) -> Path:
+    """``<project folder>/out/<project file stem>/``."""
+    path = Path(project_path)
+    return path.parent / "out" / path.stem
+
+
+def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: Progress | None = None) -> SheetBuild:
+    """The whole chain: load -> analyse -> member checks -> diagrams and figures -> results -> PDF, into ``out_dir``.
+
+    Writes <out>/<project stem>.pdf, <out>/results.json, <out>/csv/*.csv, <out>/figures/* and
+    <out>/manifest.json (SHA-256 of every file). Everything is first written into a staging folder
+    inside ``out_dir``; only when every file is complete are they renamed into place one by one
+    (each rename atomic), the PDF and then the manifest last. An interrupted build therefore
+    leaves the previous PDF whole. Files of the previous set that the new one no longer has
+    (figures of a removed state) are removed after the new PDF is in place.
+    """
+    from sheets.analysis.member_checks import member_checks, member_checks_csv
+    from sheets.report.assemble import assemble
+    from sheets.report.figures import collect_figures, optional
+    from sheets.report.sections import IssuedFile
+    from sheets.report.templates import load_template
+
+    note = progress or (lambda _m: None)
+    note("reading project")
+    source = Path(path)
+    project = load_project(source)
+    template = load_template(project.info.template, source.parent, project.source)
+    out = Path(out_dir) if out_dir is not None else default_out_dir(source)
+    note("analysis")
+    analysis = analyse(project, progress)
+    note("member checks")
+    checks = member_checks(analysis)
+    size = optional("sheets.analysis.sizing", "size_members")
+    sizing = size(analysis) if size is not None else None
+    note("figures")
+    figures, notes = collect_figures(analysis, template, progress)
+    out.mkdir(parents=True, exist_ok=True)
+    staging = Path(tempfile.mkdtemp(prefix=".sheets-build-", dir=out))
+    try:
+        note("results")
+        write_results(analysis, staging / "results.json", staging / "csv")
+        write_atomic(staging / "csv" / "member_checks.csv", member_checks_csv(checks, project, analysis.equilibrium.lengths))
+        for fig in figures:
+            write_atomic(staging / "figures" / fig.file_name, fig.file_bytes(project.info.prepared_by))
+        issued = [IssuedFile("results.json", "every result of this set, machine-readable (schema sheets.results/1)")]
+        issued += [IssuedFile(f"csv/{p.name}", CSV_CONTENTS.get(p.name, "table")) for p in sorted((staging / "csv").glob("*.csv"))]
+        issued += [IssuedFile(f"figures/{f.file_name}", f.title) for f in figures]
+        issued.append(IssuedFile("manifest.json", "SHA-256 of every file above and of this PDF"))
+        note("assembly")
+        pdf_name = f"{source.stem}.pdf"
+        write_atomic(staging / pdf_name, assemble(analysis, checks, figures, template, issued=tuple(issued),
+                                                  sizing=sizing, notes=notes))
+        note("writing files")
+        files = _publish(staging, out, pdf_name, project.fingerprint)
+    finally:
+        shutil.rmtree(staging, ignore_errors=True)
+    return SheetBuild(out / pdf_name, files, analysis.passed)
+
+
+def _publish(staging: Path, out: Path, pdf_name: str, fingerprint: str) -> tuple[Path, ...]:
+    """Rename the staged files into ``out`` (PDF, then manifest, last); drop files the new set no longer has."""
+    staged = sorted((p.relative_to(staging).as_posix() for p in staging.rglob("*") if p.is_file()),
+                    key=lambda name: (name == pdf_name, name))
+    manifest = out / "manifest.json"
+    previous: list[str] = []
+    if manifest.is_file():
+        try:
+            previous = list(json.loads(manifest.read_text(encoding="utf-8")).get("files", {}))
+        except (ValueError, OSError, AttributeError):
+            previous = []
+    digests = {name: hashlib.sha256((staging / name).read_bytes()).hexdigest() for name in staged}
+    written = []
+    for name in staged:
+        target = out / name
+        target.parent.mkdir(parents=True, exist_ok=True)
+        os.replace(staging / name, target)
+        written.append(target)
+    doc = {"schema": "sheets.manifest/1", "input_fingerprint": fingerprint, "pdf": pdf_name, "files": digests}
+    write_atomic(manifest, json.dumps(doc, indent=1, sort_keys=True) + "\n")
+    written.append(manifest)
+    for name in previous:
+        if name not in digests and ".." not in Path(name).parts:
+            (out / name).unlink(missing_ok=True)
+    return tuple(written)
+
+
+# -- force diagrams (`sheets draw`) ----------------------------------------------
+
+DRAW_FORMATS = ("png", "svg", "pdf")
+
+
+@dataclass(frozen=True)
+class DrawnState:
+    state_id: str
+    edges: int  # force-diagram edges
+    spaces: int  # faces of the embedding (force-diagram points)
+    crossings: int  # crossing vertices and pass-throughs inserted by planarisation
+    closure_error: float  # largest relative edge error
+    load_line_error: float
+    passed: bool
+    embedding: str  # the embedding's note
+
+
+@dataclass(frozen=True)
+class DrawResult:
+    files: tuple[Path, ...]
+    states: tuple[DrawnState, ...]
+
+    @property
+    def passed(self) -> bool:
+        return all(s.passed for s in self.states)
+
+
+def _file_stem(state_id: str) -> str:
+    return "".join(c if c.isalnum() or c in "-_." else "_" for c in state_id) or "state"
+
+
+def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=None, fmt: str = "png",
+                 dxf: bool = False, diagram_json: bool = False, progress: Progress | None = None,
+                 on_state: Callable[[int, int, str], None] | None = None, cells: bool = False,
+                 minkowski: bool = False, meshes: bool = False) -> DrawResult:
+    """Load, analyse and draw the force diagram of each state asked for (default: [drawing] states, else all).
+
+    Per state, into ``out_dir`` (default ``<project folder>/out/<project stem>/diagrams/``):
+    ``<state>-diagrams.<fmt>`` (form and force side by side), ``<state>-closure.<fmt>`` (the
+    verification), for a 3D frame ``<state>-views.png`` (pyvista views), and on request
+    ``<state>.dxf`` and ``<state>.diagram.json`` (schema sheets.diagram/1). ``on_state(i, n, id)``
+    is called before each state is drawn.
+    """
+    from sheets.errors import Problem, ProjectError
+    from sheets.export.diagram_json import write_diagram_json
+    from sheets.export.dxf import write_diagram_dxf
+    from sheets.reciprocal.diagram import force_diagram
+    from sheets.render.diagram2d import form_force_figure, verification_figure
+
+    note = progress or (lambda _m: None)
+    if fmt not in DRAW_FORMATS:
+        raise ValueError(f"format must be one of {', '.join(DRAW_FORMATS)}")
+    note("reading project")
+    source = Path(path)
+    project = load_project(source)
+    analysis = analyse(project, progress)
+    known = [s.id for s in analysis.states]
+    wanted = list(state_ids or project.drawing.states or known)
+    unknown = [sid for sid in wanted if sid not in known]
+    if unknown:
+        raise ProjectError([Problem(str(source), "", f"no case or combination '{sid}'", f"known: {', '.join(known)}")
+                            for sid in unknown])
+    out = Path(out_dir) if out_dir is not None else default_out_dir(source) / "diagrams"
+    files: list[Path] = []
+    drawn: list[DrawnState] = []
+    for i, sid in enumerate(wanted):
+        if on_state is not None:
+            on_state(i, len(wanted), sid)
+        note(f"diagram {sid}")
+        diagram = force_diagram(project, analysis.state(sid))
+        stem = _file_stem(sid)
+        files.append(form_force_figure(diagram, out / f"{stem}-diagrams.{fmt}", fmt))
+        files.append(verification_figure(diagram, out / f"{stem}-closure.{fmt}", fmt))
+        if project.dim == 3:
+            from sheets.render.view3d import views_figure
+
+            note(f"3D views {sid}")
+            files.append(views_figure(diagram, out / f"{stem}-views.png", "png", views=project.drawing.views))
+        if dxf:
+            files.append(write_diagram_dxf(diagram, out / f"{stem}.dxf"))
+        if diagram_json:
+            files.append(write_diagram_json(diagram, out / f"{stem}.diagram.json"))
+        if cells or minkowski or meshes:  # issue 4: node force cells, polarity, Minkowski sums
+            from sheets.render.minkowski import polyhedral_outputs
+
+            note(f"force cells {sid}")
+            files.extend(polyhedral_outputs(analysis, sid, out, stem, fmt, cells, minkowski, meshes))
+        drawn.append(DrawnState(sid, diagram.n_edges, diagram.faces.count, len(diagram.crossings), diagram.closure_error,
+                                diagram.load_line_error, diagram.passed, diagram.embedding.note))
+    if on_state is not None:
+        on_state(len(wanted), len(wanted), "")
+    return DrawResult(tuple(files), tuple(drawn))

@@ -48,6 +48,25 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--csv", metavar="DIR", help="write the results as CSV tables into this folder")
     p.add_argument("--quiet", action="store_true", help="print only the summary, not the force tables")
     p.set_defaults(run=_solve)
+
+    p = sub.add_parser("draw", help="draw each state's form and force diagrams (figures; DXF and JSON on request)")
+    p.add_argument("project", help="the project file (.toml)")
+    p.add_argument("--case", metavar="ID", action="append", dest="cases",
+                   help="a case or combination to draw (repeat for more; default: [drawing] states, else all)")
+    p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>/diagrams/)")
+    p.add_argument("--format", choices=build.DRAW_FORMATS, default="png", help="figure format (default png)")
+    p.add_argument("--dxf", action="store_true", help="also write each diagram as a DXF drawing")
+    p.add_argument("--diagram-json", action="store_true", help="also write each diagram as JSON (schema sheets.diagram/1)")
+    p.add_argument("--cells", action="store_true",
+                   help="also draw each node's force cell (3D) or force polygon (2D), and the polyhedral diagram where [polyhedral] gives one")
+    p.add_argument("--minkowski", action="store_true", help="also draw the Minkowski-sum view (load path per member)")
+    p.add_argument("--meshes", action="store_true", help="3D: also write the cells and Minkowski pieces as OBJ and VTP meshes")
+    p.set_defaults(run=_draw)
+
+    p = sub.add_parser("build", help="write the PDF calculation sheet set, results JSON/CSV and every figure")
+    p.add_argument("project", help="the project file (.toml)")
+    p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>/)")
+    p.set_defaults(run=_build)
     return parser
 
 
@@ -71,6 +90,7 @@ def _determinacy_table(det) -> Table:
         ("mechanisms k", str(det.mechanisms)),
         ("Maxwell's rule m - d n + fixed = s - k", f"{det.maxwell} = {det.self_stress - det.mechanisms}  {'holds' if det.maxwell_holds else 'FAILS'}"),
         ("conditioning (smallest kept / largest singular value)", f"{det.conditioning:.3e}"),
+        ("null-space residual (relative)", f"{det.null_residual:.1e}  {'verified' if det.bases_verified else 'FAILS'}"),
         ("route", det.route),
     ]
     for row in rows:
@@ -154,6 +174,60 @@ def _solve(args) -> int:
         out.print(f"wrote {path}")
     if not analysis.passed:
         err.print("[red]A verification check failed: the results are written but must not be used as they stand.[/red]")
+        return EXIT_CHECK_FAILED
+    return EXIT_OK
+
+
+def _build(args) -> int:
+    from rich.progress import BarColumn
+
+    stages = build.BUILD_STAGES
+    with Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
+                  TimeElapsedColumn(), console=err, transient=True) as bar:
+        task = bar.add_task("starting", total=len(stages))
+
+        def note(message: str) -> None:
+            if message in stages:
+                bar.update(task, completed=stages.index(message), description=message)
+            else:
+                bar.update(task, description=message)
+
+        result = build.build_sheets(args.project, args.out, note)
+        bar.update(task, completed=len(stages))
+    out.print(f"wrote {result.pdf}")
+    out.print(f"  and {len(result.files) - 1} more files beside it (results.json, csv/, figures/, manifest.json)")
+    if not result.passed:
+        err.print("[red]A verification check failed: the sheets say so and must not be used as they stand.[/red]")
+        return EXIT_CHECK_FAILED
+    return EXIT_OK
+
+
+def _draw(args) -> int:
+    from rich.progress import BarColumn
+
+    with Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
+                  TimeElapsedColumn(), console=err, transient=True) as bar:
+        task = bar.add_task("reading project", total=None)
+
+        def on_state(done: int, total: int, state_id: str) -> None:
+            bar.update(task, completed=done, total=total, description=f"drawing {state_id}" if state_id else "done")
+
+        result = build.draw_project(args.project, args.out, args.cases, args.format, args.dxf, args.diagram_json,
+                                    lambda message: bar.update(task, description=message), on_state,
+                                    cells=args.cells, minkowski=args.minkowski, meshes=args.meshes)
+    t = Table(title="Force diagrams (closure relative to the largest force)")
+    for col in ("state", "edges", "spaces", "crossings", "largest edge error", "load line", "result"):
+        t.add_column(col, justify="left" if col in ("state", "result") else "right")
+    for s in result.states:
+        t.add_row(s.state_id, str(s.edges), str(s.spaces), str(s.crossings), f"{s.closure_error:.1e}",
+                  f"{s.load_line_error:.1e}", "[green]closes[/green]" if s.passed else "[red]DOES NOT CLOSE[/red]")
+    out.print(t)
+    if result.states:
+        out.print(f"embedding: {result.states[0].embedding}", markup=False)
+    for path in result.files:
+        out.print(f"wrote {path}", markup=False)
+    if not result.passed:
+        err.print("[red]A force diagram does not close: the analysed forces are not in equilibrium to the tolerance.[/red]")
         return EXIT_CHECK_FAILED
     return EXIT_OK
 

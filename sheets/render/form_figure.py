@@ -1,0 +1,275 @@
+"""Plain form-diagram figures for the sheets (matplotlib, vector, headless).
+
+Three kinds, each a matplotlib Figure built without pyplot (no global state):
+
+- ``model_figure``: the frame with node and member labels and the supports;
+- ``loads_figure``: the frame in grey with the nodal loads of one load case;
+- ``forces_figure``: the frame coloured by the member forces of one state
+  (tension bluish green, compression vermillion, zero-force grey; line width
+  proportional to |force|), with its loads (black) and reactions (sky blue).
+
+A 3D frame is drawn as orthographic views (the project's [drawing] views:
+plan, front, side, axonometric), one panel each. Every figure has a legend and
+a scale: a length scale bar, and for forces the width and arrow scales.
+Labels are drawn for frames up to ``labels_up_to`` members; larger frames are
+drawn without them (the tables and CSV files carry every id).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from matplotlib.collections import LineCollection, PolyCollection
+from matplotlib.figure import Figure
+from matplotlib.lines import Line2D
+
+from sheets.model.project import Project
+from sheets.model.schema import NAMED_DIRECTIONS
+from sheets.render import palette
+
+PANEL_INCHES = 6.4  # width of a single-view figure
+FONT = 6.5
+
+
+def view_basis(direction, vertical_axis: int) -> np.ndarray:
+    """(2, 3) rows = screen x and y for an orthographic view looking along -direction."""
+    d = np.asarray(direction, dtype=float)
+    d /= np.linalg.norm(d)
+    up = np.zeros(3)
+    up[vertical_axis] = 1.0
+    if abs(d @ up) > 0.999:  # looking along the vertical: the next axis points up the page
+        up = np.zeros(3)
+        up[(vertical_axis + 2) % 3] = 1.0
+    x = np.cross(up, d)
+    x /= np.linalg.norm(x)
+    return np.vstack([x, np.cross(d, x)])
+
+
+def _views(project: Project) -> list[tuple[str, np.ndarray]]:
+    """(name, (dim, 2) projection) for each panel."""
+    if project.dim == 2:
+        return [("", np.eye(2))]
+    names = project.drawing.views or ("plan",)
+    return [(name, view_basis(NAMED_DIRECTIONS[name], project.vertical_axis).T) for name in names]
+
+
+def _layout(project: Project):
+    views = _views(project)
+    cols = 1 if len(views) == 1 else 2
+    rows = math.ceil(len(views) / cols)
+    xy = [project.coords @ proj for _, proj in views]
+    fig = Figure(figsize=(PANEL_INCHES, PANEL_INCHES))
+    axes = []
+    for k, (name, _) in enumerate(views):
+        ax = fig.add_subplot(rows, cols, k + 1)
+        ax.set_aspect("equal", adjustable="datalim")
+        ax.set_axis_off()
+        if name:
+            ax.set_title(f"{name} view", fontsize=FONT + 1)
+        axes.append(ax)
+    return fig, axes, views, xy
+
+
+def _legend(fig: Figure, handles, title: str, ncol: int) -> float:
+    """A legend under the panels; returns the height it needs (inches)."""
+    fig.legend(handles=handles, loc="lower center", ncol=ncol, fontsize=FONT, frameon=False, title=title, title_fontsize=FONT)
+    rows = 1 + math.ceil(len(handles) / ncol)
+    return rows * FONT * 1.8 / 72 + 0.08
+
+
+def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
+    """Size the figure, and each row of panels, to the drawing's aspect: no empty bands on the page."""
+    aspects = []
+    for ax in axes:
+        ax.margins(0.03)
+        ax.autoscale_view()
+        (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+        aspects.append(min(max((y1 - y0) / max(x1 - x0, 1e-12), 0.12), 1.4))
+    cols = 1 if len(axes) == 1 else 2
+    rows = [aspects[r:r + cols] for r in range(0, len(axes), cols)]
+    title = 0.22 if len(axes) > 1 else 0.0
+    panel = PANEL_INCHES / cols
+    heights = [panel * max(row) for row in rows]
+    height = sum(heights) + title * len(rows) + legend_inches
+    fig.set_size_inches(PANEL_INCHES, height)
+    top = height
+    for r, row_height in enumerate(heights):
+        top -= title
+        for c in range(cols):
+            k = r * cols + c
+            if k < len(axes):
+                axes[k].set_position(((c * panel + 0.02) / PANEL_INCHES, (top - row_height) / height,
+                                      (panel - 0.04) / PANEL_INCHES, row_height / height))
+        top -= row_height
+    return fig
+
+
+def _extent(xy: np.ndarray) -> float:
+    return float(np.ptp(xy, axis=0).max()) if len(xy) > 1 else 1.0
+
+
+def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
+    """A length scale bar under the frame: a round length in the display unit."""
+    extent = _extent(xy) / factor
+    step = 10 ** math.floor(math.log10(extent / 4)) if extent > 0 else 1.0
+    for mult in (5, 2, 1):
+        if mult * step <= extent / 3:
+            step *= mult
+            break
+    x0, y0 = xy[:, 0].min(), xy[:, 1].min() - 0.08 * _extent(xy)
+    length = step * factor
+    ax.plot([x0, x0 + length], [y0, y0], color=palette.LABEL, lw=1.2, solid_capstyle="butt")
+    for x in (x0, x0 + length):
+        ax.plot([x, x], [y0 - 0.01 * _extent(xy), y0 + 0.01 * _extent(xy)], color=palette.LABEL, lw=0.8)
+    ax.text(x0 + length / 2, y0 - 0.02 * _extent(xy), f"{step:g} {unit}", ha="center", va="top", fontsize=FONT)
+    ax.update_datalim([[x0, y0 - 0.045 * _extent(xy)]])
+
+
+def _members(ax, project: Project, xy: np.ndarray, colours, widths, zorder=2):
+    segs = xy[project.ends]
+    ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, capstyle="round", zorder=zorder))
+
+
+def _labels(ax, project: Project, xy: np.ndarray, members: bool = True, nodes: bool = True):
+    if nodes:
+        for nid, (x, y) in zip(project.node_ids, xy):
+            ax.annotate(nid, (x, y), xytext=(2.5, 2.5), textcoords="offset points", fontsize=FONT, color=palette.NODE)
+    if members:
+        mid = xy[project.ends].mean(axis=1)
+        for label, (x, y) in zip(project.member_ids, mid):
+            ax.text(x, y, label, fontsize=FONT - 0.5, color=palette.LABEL, ha="center", va="center",
+                    bbox=dict(boxstyle="round,pad=0.12", fc="white", ec="none", alpha=0.8), zorder=5)
+
+
+def _supports(ax, project: Project, xy: np.ndarray, proj: np.ndarray, size: float):
+    """A triangle under each supported node; its text names the fixed axes."""
+    supported = np.flatnonzero(project.fixed.any(axis=1))
+    if not len(supported):
+        return
+    ax.scatter(xy[supported, 0], xy[supported, 1] - 0.0, marker="^", s=size, facecolor="white",
+               edgecolor=palette.NODE, linewidths=0.8, zorder=4)
+    if len(supported) <= (60 if project.dim == 2 else 16):
+        for n in supported:
+            axes = "".join(a for a, f in zip(project.axes, project.fixed[n]) if f)
+            ax.annotate(axes, (xy[n, 0], xy[n, 1]), xytext=(0, -9), textcoords="offset points", fontsize=FONT - 1,
+                        ha="center", va="top", color=palette.LABEL)
+
+
+def _arrows(ax, points: np.ndarray, vectors: np.ndarray, colour: str, scale: float, head: float, tail_at_node: bool):
+    """Force arrows: ``vectors`` (n, 2) in force units times ``scale`` (length per unit force).
+
+    Loads point at their node (head at the node); reactions start at it. All arrows of a call
+    are one collection of 7-point outlines (shaft and head), built with numpy: thousands of
+    arrows on a large frame cost no more than one.
+    """
+    d = np.asarray(vectors, dtype=float).reshape(-1, 2) * scale
+    length = np.hypot(d[:, 0], d[:, 1])
+    keep = length > 1e-12
+    if not keep.any():
+        return
+    d, length, p = d[keep], length[keep], np.asarray(points, dtype=float).reshape(-1, 2)[keep]
+    start = p if tail_at_node else p - d
+    u = d / length[:, None]
+    n = np.stack([-u[:, 1], u[:, 0]], axis=1)
+    head_length = np.minimum(head * 1.3, length * 0.6)[:, None]
+    neck = start + u * (length[:, None] - head_length)
+    shaft, barb = head * 0.09, head / 2
+    outline = np.stack([start + n * shaft, neck + n * shaft, neck + n * barb, start + d,
+                        neck - n * barb, neck - n * shaft, start - n * shaft], axis=1)
+    ax.add_collection(PolyCollection(outline, facecolors=colour, edgecolors="none", zorder=6))
+    ax.update_datalim(outline.reshape(-1, 2))
+
+
+def _along_view(ax, points: np.ndarray, vectors: np.ndarray, projected: np.ndarray, largest: float):
+    """Loads (nearly) along the view direction show as rings, area proportional to |load|."""
+    size = np.linalg.norm(vectors, axis=1)
+    along = np.linalg.norm(projected, axis=1) < 0.2 * size
+    if along.any() and largest > 0:
+        ax.scatter(points[along, 0], points[along, 1], s=60 * size[along] / largest, facecolor="none",
+                   edgecolor=palette.LOAD, linewidths=0.8, zorder=6)
+
+
+def _force_scale(vectors: list[np.ndarray], extent: float) -> tuple[float, float]:
+    """Length per newton so the largest arrow is 12 % of the frame, and that largest force."""
+    largest = max((float(np.linalg.norm(v, axis=1).max(initial=0.0)) for v in vectors), default=0.0)
+    return (0.12 * extent / largest if largest > 0 else 0.0), largest
+
+
+def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
+    """The frame with node and member labels and the supports."""
+    fig, axes, views, xys = _layout(project)
+    labelled = project.n_members <= labels_up_to
+    for ax, (_, proj), xy in zip(axes, views, xys):
+        _members(ax, project, xy, palette.LABEL, 0.8)
+        if labelled:
+            ax.scatter(xy[:, 0], xy[:, 1], s=6, color=palette.NODE, zorder=3)
+            _labels(ax, project, xy)
+        _supports(ax, project, xy, proj, 40 if labelled else 12)
+        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    handles = [Line2D([], [], color=palette.LABEL, lw=0.8, label="member"),
+               Line2D([], [], marker="^", ls="", mfc="white", mec=palette.NODE, label="support (fixed axes named)")]
+    note = "" if labelled else f" (labels omitted above {labels_up_to} members)"
+    space = _legend(fig, handles, f"Form diagram, {project.n_nodes} nodes, {project.n_members} members{note}", 2)
+    return _finish(fig, axes, space)
+
+
+def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
+    """The frame in grey with one load case's nodal loads (black), magnitudes labelled."""
+    fig, axes, views, xys = _layout(project)
+    f_unit, f_factor = project.units.label("force"), project.units.factor("force")
+    loaded = np.flatnonzero(np.abs(loads).max(axis=1) > 0)
+    scale = largest = 0.0
+    for ax, (_, proj), xy in zip(axes, views, xys):
+        _members(ax, project, xy, palette.ZERO_FORCE, 0.7)
+        _supports(ax, project, xy, proj, 25 if project.n_members <= 300 else 10)
+        vecs = loads[loaded] @ proj
+        scale, largest = _force_scale([loads[loaded]], _extent(xy))
+        head = 0.025 * _extent(xy)
+        _arrows(ax, xy[loaded], vecs, palette.LOAD, scale, head, tail_at_node=False)
+        _along_view(ax, xy[loaded], loads[loaded], vecs, largest)
+        if len(loaded) <= 40:
+            for n, v in zip(loaded, loads[loaded]):
+                tail = xy[n] - (v @ proj) * scale
+                ax.annotate(f"{np.linalg.norm(v) / f_factor:.3g}", tail, fontsize=FONT - 0.5, ha="center", va="bottom",
+                            xytext=(0, 2), textcoords="offset points")
+        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    handles = [Line2D([], [], color=palette.LOAD, lw=2, label=f"load (arrow {0.12:.0%} of frame size = {largest / f_factor:.3g} {f_unit})"),
+               Line2D([], [], color=palette.ZERO_FORCE, lw=0.7, label="member")]
+    if project.dim == 3:
+        handles.append(Line2D([], [], marker="o", ls="", mfc="none", mec=palette.LOAD,
+                              label="load along the view direction (ring area proportional to |load|)"))
+    return _finish(fig, axes, _legend(fig, handles, title, 2))
+
+
+def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, reactions: np.ndarray, title: str,
+                  labels_up_to: int = 120) -> Figure:
+    """The frame coloured by force: colour = sense, width proportional to |force|; loads and reactions."""
+    fig, axes, views, xys = _layout(project)
+    f_unit, f_factor = project.units.label("force"), project.units.factor("force")
+    largest = float(np.abs(forces).max(initial=0.0))
+    colours = [palette.force_colour(t, largest) for t in forces]
+    widths = [palette.line_width(t, largest) for t in forces]
+    loaded = np.flatnonzero(np.abs(loads).max(axis=1) > 0)
+    supported = np.flatnonzero(np.abs(reactions).max(axis=1) > 0)
+    arrow_max = 0.0
+    for ax, (_, proj), xy in zip(axes, views, xys):
+        _members(ax, project, xy, colours, widths)
+        scale, arrow_max = _force_scale([loads[loaded], reactions[supported]], _extent(xy))
+        head = 0.02 * _extent(xy)
+        _arrows(ax, xy[loaded], loads[loaded] @ proj, palette.LOAD, scale, head, tail_at_node=False)
+        _arrows(ax, xy[supported], reactions[supported] @ proj, palette.REACTION, scale, head, tail_at_node=True)
+        if project.n_members <= labels_up_to:
+            _labels(ax, project, xy, nodes=False)
+        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    thick = palette.line_width(largest, largest)
+    half = palette.line_width(largest / 2, largest)
+    handles = [
+        Line2D([], [], color=palette.TENSION, lw=half, label="tension"),
+        Line2D([], [], color=palette.COMPRESSION, lw=half, label="compression"),
+        Line2D([], [], color=palette.ZERO_FORCE, lw=palette.line_width(0, largest), label="zero force"),
+        Line2D([], [], color=palette.LABEL, lw=thick, label=f"width {thick:.1f} pt = {largest / f_factor:.4g} {f_unit}"),
+        Line2D([], [], color=palette.LOAD, lw=2, label="load"),
+        Line2D([], [], color=palette.REACTION, lw=2, label=f"reaction (longest arrow {arrow_max / f_factor:.4g} {f_unit})"),
+    ]
+    return _finish(fig, axes, _legend(fig, handles, title, 3))

@@ -1,0 +1,62 @@
+"""Assemble a sheet set: sections in the template's order -> PDF bytes.
+
+Pure: takes the values the earlier stages made and returns bytes; writing the
+file (atomically) is sheets.build's job. The same inputs give the same bytes.
+"""
+
+from __future__ import annotations
+
+import io
+from typing import Any
+
+from reportlab.platypus import PageBreak
+
+from sheets import __version__
+from sheets.analysis import Analysis
+from sheets.analysis.member_checks import MemberChecks
+from sheets.report.document import Metadata, PageCount, SheetDocument, binary_streams
+from sheets.report.figures import SheetFigure
+from sheets.report.fonts import register_fonts
+from sheets.report.sections import SECTIONS, IssuedFile, SheetSet
+from sheets.report.tables import make_styles
+from sheets.report.templates import Template
+
+
+def metadata(analysis: Analysis) -> Metadata:
+    p = analysis.project
+    info = p.info
+    title = f"{info.title}: {info.calculation}" if info.calculation else info.title
+    keywords = ["calculation sheets", "indicative", "pin-jointed frame", "graphic statics"]
+    keywords += [f"project {info.number}"] if info.number else []
+    keywords += [f"revision {info.revision}"] if info.revision else []
+    keywords.append(f"input sha256 {p.fingerprint}")
+    return Metadata(
+        title=title,
+        author=info.prepared_by,
+        subject=f"Indicative calculation sheets{': ' + info.calculation if info.calculation else ''} "
+                f"(revision {info.revision or '-'}, {info.date or 'undated'})",
+        keywords=tuple(keywords),
+        date=info.date,
+    )
+
+
+def assemble(analysis: Analysis, checks: MemberChecks, figures: tuple[SheetFigure, ...], template: Template, *,
+             issued: tuple[IssuedFile, ...] = (), sizing: Any | None = None, notes: tuple[str, ...] = ()) -> bytes:
+    """The whole sheet set as PDF bytes."""
+    fonts = register_fonts()
+    styles = make_styles(fonts, template.font_size)
+    buffer = io.BytesIO()
+    p = analysis.project
+    doc = SheetDocument(buffer, template, p.info, p.fingerprint, fonts, metadata(analysis), __version__)
+    sheet = SheetSet(analysis, checks, tuple(figures), template, doc.body_width, doc.body_height, tuple(issued), sizing,
+                     tuple(notes))
+    story: list = []
+    for name in template.order:
+        flowables = SECTIONS[name](sheet, styles)
+        if flowables and story:
+            story.append(PageBreak())  # every section starts on a new sheet
+        story.extend(flowables)
+    story.append(PageCount(doc))
+    with binary_streams():
+        doc.multiBuild(story)
+    return buffer.getvalue()

@@ -1,0 +1,289 @@
+"""The figures of a sheet set, from whichever render stages exist.
+
+Each source below returns ``SheetFigure`` values for one kind of figure, or
+nothing when the stage that draws it is not part of this installation (an
+optional module that is absent) or has nothing to draw. Vector figures
+(matplotlib) are recorded once (sheets.report.vector); 3D views arrive as PNG.
+
+Sources, in the order the sheets use them (part of the sheet: module):
+    model          the frame with labels and supports       (render.form_figure)
+    loads          each load case's nodal loads              (render.form_figure)
+    force_diagram  form beside reciprocal force diagram      (render.diagram2d.reciprocal_figure);
+                   where that stage is absent or fails for a state, the form
+                   coloured by force alone, part form_forces  (render.form_figure)
+    force_diagram  3D views of form and force diagram        (render.view3d.force_views_figure)
+    force_diagram  closure of the force diagram              (render.diagram2d.closure_figure)
+    cells          each node's force cell                    (render.cells3d.node_cells_figure)
+    minkowski      the Minkowski-sum view                    (render.minkowski.minkowski_figure)
+
+Render modules of other stages draw to a path ``f(analysis, state_id, path)``.
+Matplotlib figures are asked for as ``.rlvec`` (sheets.report.vector: recorded
+as vector paths), pyvista renders of 3D frames as PNG. A figure that cannot be drawn for one state
+(e.g. a node whose members are coplanar has no closed cell) does not stop the
+build: it is left out and the cautions page says which and why.
+"""
+
+from __future__ import annotations
+
+import importlib
+import io
+import multiprocessing
+import os
+import tempfile
+from concurrent.futures import ProcessPoolExecutor
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Callable, Iterable
+
+from matplotlib.figure import Figure
+
+from sheets.analysis import Analysis
+from sheets.render import form_figure
+from sheets.report.templates import Template
+from sheets.report.vector import VECTOR_SUFFIX, VectorFigure, read_vector_file, record
+
+Progress = Callable[[str], None]
+
+
+@dataclass(frozen=True)
+class SheetFigure:
+    key: str  # file stem in figures/, unique in the set
+    part: str  # "model", "loads" or a state part (templates.STATE_PARTS)
+    state: str | None  # the state (case or combination) id it shows, if any
+    title: str
+    caption: str
+    vector: VectorFigure | None = None
+    png: bytes | None = None  # raster views (3D renders)
+    png_size: tuple[int, int] = (0, 0)  # pixels
+
+    @property
+    def file_name(self) -> str:
+        return f"{self.key}.pdf" if self.vector is not None else f"{self.key}.png"
+
+    def file_bytes(self, author: str = "") -> bytes:
+        return self.vector.pdf_bytes(self.title, author) if self.vector is not None else self.png
+
+
+@dataclass(frozen=True)
+class FigureNote:
+    """A figure left out of the set, and why (printed on the cautions page)."""
+
+    text: str
+
+
+def optional(module: str, name: str) -> Any | None:
+    """``module.name`` if that module is installed, else None (its own import errors still raise)."""
+    try:
+        mod = importlib.import_module(module)
+    except ModuleNotFoundError as exc:
+        if exc.name == module or module.startswith(f"{exc.name}."):
+            return None
+        raise
+    return getattr(mod, name, None)
+
+
+def safe_key(*parts: str) -> str:
+    text = "-".join(p for p in parts if p)
+    return "".join(c if c.isalnum() or c in "-_." else "_" for c in text)
+
+
+def _vector(fig: Figure) -> VectorFigure:
+    try:
+        return record(fig)
+    finally:
+        fig.clear()
+
+
+def drawn_states(analysis: Analysis) -> list:
+    """The states the project asks to draw ([drawing] states; empty = all)."""
+    wanted = analysis.project.drawing.states
+    return [s for s in analysis.states if not wanted or s.id in wanted]
+
+
+def state_label(state) -> str:
+    kind = {"case": "Load case", "prestress": "Prestress", "combination": "Combination"}.get(state.kind, state.kind)
+    return f"{kind} {state.id}"
+
+
+# -- sources: each draws the figures of one state (or of the model, state None) ----
+
+@dataclass(frozen=True)
+class Source:
+    name: str
+    states: Callable[[Analysis], list]  # the states it draws; [None] for the model
+    draw: Callable[..., Iterable["SheetFigure | FigureNote"]]  # (analysis, template, scratch, state)
+
+
+def _model(analysis: Analysis, template: Template, scratch: Path, state) -> Iterable[SheetFigure]:
+    p = analysis.project
+    views = "" if p.dim == 2 else f" Orthographic views: {', '.join(p.drawing.views)}."
+    labels = ("Node and member labels are the project's ids." if p.n_members <= template.labels_up_to
+              else f"Labels are omitted for frames above {template.labels_up_to} members; the tables and CSV files carry every id.")
+    yield SheetFigure("form-model", "model", None, "Form diagram: geometry, labels and supports",
+                      f"The frame as given in the project file.{views} {labels} Triangles mark supports, with the fixed axes named.",
+                      vector=_vector(form_figure.model_figure(p, template.labels_up_to)))
+
+
+def _loads(analysis: Analysis, template: Template, scratch: Path, state) -> Iterable[SheetFigure]:
+    p = analysis.project
+    title = f"{state_label(state)}: {state.title}"
+    yield SheetFigure(safe_key("loads", state.id), "loads", state.id, f"Loads, {title}",
+                      f"Nodal loads of {title} (self-weight included where the case asks for it), "
+                      f"magnitudes in {p.units.label('force')}. Arrows point in the direction of the load and end at its node.",
+                      vector=_vector(form_figure.loads_figure(p, state.loads, title)))
+
+
+def _forces(analysis: Analysis, template: Template, scratch: Path, state) -> Iterable[SheetFigure]:
+    p = analysis.project
+    title = f"{state_label(state)}: {state.title}"
+    yield SheetFigure(safe_key("forces", state.id), "form_forces", state.id, f"Member forces, {title}",
+                      "Form diagram coloured by force: bluish green tension, vermillion compression, grey zero force; "
+                      "line width proportional to |force|. Loads black, reactions sky blue (arrows from their node).",
+                      vector=_vector(form_figure.forces_figure(p, state.forces, state.loads, state.reactions, title,
+                                                               template.labels_up_to)))
+
+
+def _loaded_cases(analysis: Analysis) -> list:
+    return [s for s in analysis.cases if s.kind == "case" and abs(s.loads).max(initial=0.0) > 0]
+
+
+def _external(module: str, function: str, part: str, title: str, caption: str, analysis: Analysis, scratch: Path,
+              state, vector: bool) -> list:
+    """One figure another render module draws to a path: ``module.function(analysis, state_id, path)``.
+
+    ``vector``: ask for ``.rlvec`` (matplotlib figures, kept as vectors), else PNG (pyvista renders).
+    """
+    draw = optional(module, function)
+    key = safe_key(function.removesuffix("_figure").replace("_", "-"), state.id)
+    path = scratch / f"{key}{VECTOR_SUFFIX if vector else '.png'}"
+    label = f"{state_label(state)}: {state.title}"
+    try:
+        written = Path(draw(analysis, state.id, path) or path)
+    except Exception as exc:  # one figure that cannot be drawn must not stop the sheet set
+        return [FigureNote(f"{title} of {label} is not in this set: {type(exc).__name__}: {exc}")]
+    if written.suffix == VECTOR_SUFFIX:  # the module may pick its own format: go by what it wrote
+        return [SheetFigure(key, part, state.id, f"{title}, {label}", caption, vector=read_vector_file(written))]
+    if written.suffix.lower() != ".png":
+        return [FigureNote(f"{title} of {label} is not in this set: {function} wrote a {written.suffix} file")]
+    png = written.read_bytes()
+    return [SheetFigure(key, part, state.id, f"{title}, {label}", caption, png=png, png_size=_png_size(png))]
+
+
+def _png_size(png: bytes) -> tuple[int, int]:
+    from PIL import Image
+
+    with Image.open(io.BytesIO(png)) as im:
+        return im.size
+
+
+RECIPROCAL = ("sheets.render.diagram2d", "reciprocal_figure")
+RECIPROCAL_CAPTION = (
+    "Left, the form diagram: members coloured by sense (bluish green tension, vermillion compression, grey zero force), "
+    "width proportional to |force|, loads black and reactions sky blue, spaces lettered in Bow's notation. Right, the "
+    "reciprocal force diagram: each edge parallel to its member, its length the force at the drawn scale, labelled by "
+    "the member; its points carry the space letters in lower case.")
+
+
+def _form_and_force(analysis: Analysis, template: Template, scratch: Path, state) -> Iterable[SheetFigure | FigureNote]:
+    """The reciprocal figure (form beside force diagram) where that stage exists; else the coloured form alone."""
+    if optional(*RECIPROCAL) is not None:
+        items = _external(*RECIPROCAL, "force_diagram", "Form and force diagrams", RECIPROCAL_CAPTION, analysis,
+                          scratch, state, vector=True)
+        yield from items
+        if any(isinstance(i, SheetFigure) for i in items):
+            return
+    yield from _forces(analysis, template, scratch, state)
+
+
+def _state_figure(module: str, function: str, part: str, title: str, caption: str, vector_dims=(2, 3), dims=(2, 3)):
+    def draw(analysis: Analysis, template: Template, scratch: Path, state):
+        return _external(module, function, part, title, caption, analysis, scratch, state,
+                         vector=analysis.project.dim in vector_dims)
+
+    def states(analysis: Analysis) -> list:
+        return drawn_states(analysis) if analysis.project.dim in dims and optional(module, function) is not None else []
+
+    return Source(function, states, draw)
+
+
+SOURCES: tuple[Source, ...] = (
+    Source("model", lambda analysis: [None], _model),
+    Source("loads", _loaded_cases, _loads),
+    Source("form and force", drawn_states, _form_and_force),
+    _state_figure("sheets.render.view3d", "force_views_figure", "force_diagram", "Form and force diagrams in 3D views",
+                  "Form (top row) and force diagram (bottom row) rendered in orthographic views; tube radius proportional "
+                  "to |force|, colours as in the form diagram; scale bars true for lengths parallel to each view.",
+                  dims=(3,)),
+    _state_figure("sheets.render.diagram2d", "closure_figure", "force_diagram", "Closure of the force diagram",
+                  "How closely the drawn force diagram closes: each node's force polygon and the load line (left), each "
+                  "edge against its analysed force (middle), both relative to the largest force and against the tolerance; "
+                  "and the load line drawn head to tail (right)."),
+    _state_figure("sheets.render.cells3d", "node_cells_figure", "cells", "Force cells at the nodes",
+                  "Each node's force cell (Rankine's polyhedra, one closed cell per node; a polygon in 2D) drawn at the node, "
+                  "all at one scale: a face per member with area |force| (bluish green tension, vermillion compression) "
+                  "and a face for the external force (black load, sky blue reaction).", vector_dims=(2,)),
+    _state_figure("sheets.render.minkowski", "minkowski_figure", "minkowski", "Minkowski-sum view",
+                  "The sum (1 - s) form + s force: every member becomes a rectangle (2D) or prism (3D) whose size is "
+                  "proportional to |force| x length, its share of the load path (bluish green tension, vermillion "
+                  "compression); the totals are set beside Maxwell's load path theorem.", vector_dims=(2,)),
+)
+
+
+# -- running the sources: in order, or on two worker processes ----------------
+
+_WORK: dict = {}  # set in forked worker processes only: what the parent handed over
+
+
+def _task(index: int, state_id: str | None) -> list:
+    analysis, template, scratch, sources = _WORK["args"]
+    source = sources[index]
+    state = None if state_id is None else analysis.state(state_id)
+    return list(source.draw(analysis, template, scratch, state))
+
+
+def _start_worker(args) -> None:
+    _WORK["args"] = args
+
+
+def collect_figures(analysis: Analysis, template: Template, progress: Progress | None = None, workers: int | None = None,
+                    sources: tuple[Source, ...] | None = None) -> tuple[tuple[SheetFigure, ...], tuple[str, ...]]:
+    """Every figure of the set in a fixed order, and notes on the ones left out.
+
+    Figures are independent, so with ``workers`` > 1 (default: up to 2, the cores a build
+    machine has) they are drawn in forked worker processes; the order, and so the bytes of
+    the sheet set, do not depend on which finishes first. Where fork is not available they
+    are drawn one after another.
+    """
+    note = progress or (lambda _m: None)
+    sources = SOURCES if sources is None else sources
+    tasks = [(i, None if state is None else state.id) for i, src in enumerate(sources) for state in src.states(analysis)]
+    workers = min(2, os.cpu_count() or 1) if workers is None else workers
+    results: list[list] = []
+    with tempfile.TemporaryDirectory(prefix="sheets-figures-") as scratch:
+        args = (analysis, template, Path(scratch), sources)
+        if workers > 1 and len(tasks) > 1 and "fork" in multiprocessing.get_all_start_methods():
+            context = multiprocessing.get_context("fork")
+            with ProcessPoolExecutor(workers, mp_context=context, initializer=_start_worker, initargs=(args,)) as pool:
+                futures = [pool.submit(_task, i, sid) for i, sid in tasks]
+                for k, ((i, sid), future) in enumerate(zip(tasks, futures)):
+                    note(f"figures: {sources[i].name} {sid or ''} ({k + 1}/{len(tasks)})")
+                    results.append(future.result())
+        else:
+            for k, (i, sid) in enumerate(tasks):
+                note(f"figures: {sources[i].name} {sid or ''} ({k + 1}/{len(tasks)})")
+                state = None if sid is None else analysis.state(sid)
+                results.append(list(sources[i].draw(analysis, template, Path(scratch), state)))
+    figures = [item for items in results for item in items if isinstance(item, SheetFigure)]
+    notes = [item.text for items in results for item in items if isinstance(item, FigureNote)]
+    return tuple(_unique_keys(figures)), tuple(notes)
+
+
+def _unique_keys(figures: list[SheetFigure]) -> list[SheetFigure]:
+    """State ids that differ only in characters a file name cannot hold get a numbered suffix."""
+    seen: dict[str, int] = {}
+    out = []
+    for f in figures:
+        n = seen.get(f.key, 0)
+        seen[f.key] = n + 1
+        out.append(f if n == 0 else SheetFigure(**{**f.__dict__, "key": f"{f.key}-{n + 1}"}))
+    return out

@@ -1,0 +1,161 @@
+"""Paragraph styles, number formats and table flowables shared by every section.
+
+Numbers on the sheets use fixed formats (``FORMATS``) so a reviewer can compare
+columns, and so the tests can read them back and compare them with the results
+JSON to the printed precision.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+
+from reportlab.lib import colors
+from reportlab.lib.enums import TA_LEFT
+from reportlab.lib.styles import ParagraphStyle
+from reportlab.platypus import Paragraph, Table, TableStyle
+
+from sheets.report.fonts import Fonts
+
+GRID = colors.HexColor("#999999")
+HEAD_FILL = colors.HexColor("#E8E8E8")
+FAIL_FILL = colors.HexColor("#F6D5C0")  # light vermillion: a check above its limit
+PASS_TEXT = colors.HexColor("#006B4F")
+
+FORMATS = {
+    "force": "{:,.2f}",
+    "length": "{:,.3f}",
+    "ratio": "{:.3f}",
+    "small": "{:.1e}",
+    "slenderness": "{:,.1f}",
+    "load_path": "{:,.2f}",
+    "area": "{:,.0f}",
+    "second_moment": "{:.3e}",
+    "stress": "{:,.1f}",
+    "volume": "{:.4g}",
+    "displacement": "{:,.2f}",
+    "factor": "{:g}",
+}
+
+
+def fmt(value, kind: str) -> str:
+    """A number in the sheets' fixed format for its kind; '-' for a missing value."""
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return "-"
+    text = FORMATS[kind].format(value)
+    return "0" + text[2:] if text.startswith("-0") and float(text.replace(",", "")) == 0 else text
+
+
+@dataclass(frozen=True)
+class Styles:
+    body: ParagraphStyle
+    small: ParagraphStyle
+    cell: ParagraphStyle
+    cell_head: ParagraphStyle
+    caption: ParagraphStyle
+    h0: ParagraphStyle
+    h1: ParagraphStyle
+    h2: ParagraphStyle
+    cover_title: ParagraphStyle
+    caution: ParagraphStyle
+    fonts: Fonts
+
+
+def make_styles(fonts: Fonts, size: float) -> Styles:
+    def style(name, **kw):
+        base = dict(fontName=fonts.regular, bulletFontName=fonts.regular, fontSize=size, leading=size * 1.3, alignment=TA_LEFT)
+        base.update(kw)
+        return ParagraphStyle(name, **base)
+
+    return Styles(
+        body=style("body", spaceAfter=size * 0.5),
+        small=style("small", fontSize=size - 1.5, leading=(size - 1.5) * 1.3, spaceAfter=size * 0.4),
+        cell=style("cell", fontSize=size - 1, leading=(size - 1) * 1.2),
+        cell_head=style("cell_head", fontName=fonts.bold, fontSize=size - 1, leading=(size - 1) * 1.2),
+        caption=style("caption", fontSize=size - 1, leading=(size - 1) * 1.3, textColor=colors.HexColor("#333333"),
+                      spaceBefore=2, spaceAfter=size),
+        h0=style("h0", fontName=fonts.bold, fontSize=size + 5, leading=(size + 5) * 1.25, spaceBefore=0,
+                 spaceAfter=size * 0.8, keepWithNext=1),
+        h1=style("h1", fontName=fonts.bold, fontSize=size + 2.5, leading=(size + 2.5) * 1.25, spaceBefore=size,
+                 spaceAfter=size * 0.5, keepWithNext=1),
+        h2=style("h2", fontName=fonts.bold, fontSize=size + 0.5, leading=(size + 0.5) * 1.25, spaceBefore=size * 0.8,
+                 spaceAfter=size * 0.3, keepWithNext=1),
+        cover_title=style("cover_title", fontName=fonts.bold, fontSize=size + 10, leading=(size + 10) * 1.2,
+                          spaceAfter=size),
+        caution=style("caution", fontSize=size, leading=size * 1.35, leftIndent=10, bulletIndent=0, spaceAfter=size * 0.6),
+        fonts=fonts,
+    )
+
+
+_SUPERSCRIPT = str.maketrans({"2": "²", "3": "³", "4": "⁴"})
+
+
+def ulabel(units, kind: str) -> str:
+    """A display unit as printed on the sheets: 'mm^2' -> 'mm²'."""
+    return re.sub(r"\^([234])\b", lambda m: m.group(1).translate(_SUPERSCRIPT), units.label(kind))
+
+
+def escape(text: str) -> str:
+    return str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+
+
+def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[int] | None = None,
+          widths: list[float] | None = None, highlight: list[int] | None = None, total_width: float | None = None,
+          repeat: bool = True) -> Table:
+    """A grid table with a shaded header repeated on every page; ``numeric`` columns right-aligned.
+
+    ``highlight`` rows (0-based, excluding the header) are shaded to flag a check above its limit.
+    """
+    numeric = numeric or set()
+    head = [Paragraph(escape(h), styles.cell_head) for h in header]
+    body = [[Paragraph(escape(v), styles.cell) if isinstance(v, str) and len(v) > 28 else v for v in row] for row in rows]
+    if widths is None and total_width is not None:
+        widths = _auto_widths(header, rows, total_width)
+    t = Table([head] + body, colWidths=widths, repeatRows=1 if repeat else 0, hAlign="LEFT")
+    size = styles.cell.fontSize
+    commands = [
+        ("FONT", (0, 0), (-1, -1), styles.fonts.regular, size),  # the header too: no cell falls back to Helvetica
+        ("GRID", (0, 0), (-1, -1), 0.3, GRID),
+        ("BACKGROUND", (0, 0), (-1, 0), HEAD_FILL),
+        ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+        ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+        ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+        ("LEFTPADDING", (0, 0), (-1, -1), 3),
+        ("RIGHTPADDING", (0, 0), (-1, -1), 3),
+    ]
+    for c in sorted(numeric):
+        commands.append(("ALIGN", (c, 1), (c, -1), "RIGHT"))
+    for r in highlight or []:
+        commands.append(("BACKGROUND", (0, r + 1), (-1, r + 1), FAIL_FILL))
+    t.setStyle(TableStyle(commands))
+    t.spaceAfter = styles.body.fontSize * 0.8
+    return t
+
+
+def _auto_widths(header: list[str], rows: list[list], total: float) -> list[float]:
+    """Column widths proportional to the longest text in each column (header words count less)."""
+    n = len(header)
+    longest = [max([min(len(w), 14) for w in h.split()] + [4]) for h in header]
+    for row in rows[:200]:
+        for c, v in enumerate(row):
+            longest[c] = max(longest[c], min(len(str(v)), 40))
+    weight = [max(x, 4) for x in longest]
+    scale = total / sum(weight)
+    return [w * scale for w in weight][:n]
+
+
+def key_value(styles: Styles, pairs: list[tuple[str, str]], width: float, label_share: float = 0.38) -> Table:
+    """A two-column table of labels and values (no header)."""
+    rows = [[Paragraph(escape(k), styles.cell_head), Paragraph(escape(v), styles.cell)] for k, v in pairs]
+    t = Table(rows, colWidths=[width * label_share, width * (1 - label_share)], hAlign="LEFT")
+    t.setStyle(TableStyle([
+        ("FONT", (0, 0), (-1, -1), styles.fonts.regular, styles.cell.fontSize),
+        ("GRID", (0, 0), (-1, -1), 0.3, GRID),
+        ("BACKGROUND", (0, 0), (0, -1), HEAD_FILL),
+        ("VALIGN", (0, 0), (-1, -1), "TOP"),
+        ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+        ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+    ]))
+    t.spaceAfter = styles.body.fontSize * 0.8
+    return t

@@ -1,13 +1,12 @@
-"""Time each stage of `sheets build` on a project: reading, analysis, member checks, figures
-(rendering, with the reciprocal diagrams computed inside it), results, assembly, writing.
+"""Time each stage of `sheets build` on a project: reading, analysis, member checks, diagrams,
+figures (rendering), results, assembly, writing.
 
     python bench/bench_build.py [PROJECT.toml ...] [--out DIR]
 
 With no project, every demo project is timed. Stage times come from the progress
-messages ``sheets.build.build_sheets`` sends at the start of each stage. The
-reciprocal diagrams (force diagrams, node cells) are computed by the render modules
-while drawing; their share is timed apart, on the drawn states, and printed as
-"diagrams". Each project is also timed as a ratio against a baseline measured in
+messages ``sheets.build.build_sheets`` sends at the start of each stage (the
+reciprocal diagrams, node cells and Minkowski views of the drawn states are built
+once, in the "diagrams" stage). Each project is also timed as a ratio against a baseline measured in
 the same process: the same build with the figure sources switched off, never as an
 absolute pass/fail.
 """
@@ -24,28 +23,8 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from sheets import build  # noqa: E402
-from sheets.analysis import analyse  # noqa: E402
 from sheets.model import load_project  # noqa: E402
 from sheets.report import figures as figure_sources  # noqa: E402
-
-
-def diagram_seconds(project_path: Path) -> float | None:
-    """Time to compute the reciprocal diagrams and node cells of the drawn states (None if those stages are absent)."""
-    force_diagram = figure_sources.optional("sheets.reciprocal.diagram", "force_diagram")
-    node_cells = figure_sources.optional("sheets.reciprocal.cells", "node_cells")
-    if force_diagram is None and node_cells is None:
-        return None
-    analysis = analyse(load_project(project_path))
-    start = time.perf_counter()
-    for state in figure_sources.drawn_states(analysis):
-        if force_diagram is not None:
-            force_diagram(analysis.project, state)
-        if node_cells is not None:
-            try:
-                node_cells(analysis, state.id)
-            except Exception:  # a state without closed cells: the sheets note it; here it is just not timed
-                pass
-    return time.perf_counter() - start
 
 
 def timed_build(project: Path, out: Path) -> tuple[dict[str, float], float, build.SheetBuild]:
@@ -79,9 +58,6 @@ def main(argv=None) -> int:
             stages, total, result = timed_build(project, base / project.stem)
             for name, seconds in stages.items():
                 print(f"  {name:<15} {seconds:8.2f} s")
-            diagrams = diagram_seconds(project)
-            if diagrams is not None:
-                print(f"  {'  diagrams':<15} {diagrams:8.2f} s   (inside figures; timed apart)")
             print(f"  {'total':<15} {total:8.2f} s   ({result.pdf.stat().st_size / 1e6:.1f} MB PDF, {len(result.files)} files)")
             saved = figure_sources.SOURCES
             try:

@@ -40,17 +40,32 @@ def solve(path: str | Path, progress: Progress | None = None) -> Analysis:
     return analyse(project, progress)
 
 
-def result_sections(analysis: Analysis) -> dict[str, Any]:
-    """Sections later stages add to the results document (diagrams, cells, sizing)."""
+DIAGRAM_DETAIL_NODES = 500  # above this many nodes the results carry cell summaries, not every face
+
+
+def result_sections(analysis: Analysis, checks=None, sizing=None, diagrams=None) -> dict[str, Any]:
+    """Sections later stages add to the results document: member checks, sizing, and the
+    diagrams of the drawn states where the caller built them (values made once, passed in)."""
     from sheets.analysis.member_checks import member_checks, member_checks_results
+    from sheets.analysis.sizing import size_members, sizing_results
 
-    return {"member_checks": member_checks_results(member_checks(analysis), analysis.project)}
+    project = analysis.project
+    sections = {
+        "member_checks": member_checks_results(checks or member_checks(analysis), project),
+        "sizing": sizing_results(sizing or size_members(analysis), project.units),
+    }
+    if diagrams:
+        from sheets.reciprocal.stage import diagrams_results
+
+        sections["diagrams"] = diagrams_results(analysis, diagrams, detail=project.n_nodes <= DIAGRAM_DETAIL_NODES)
+    return sections
 
 
-def write_results(analysis: Analysis, json_path: str | Path | None = None, csv_dir: str | Path | None = None) -> list[Path]:
+def write_results(analysis: Analysis, json_path: str | Path | None = None, csv_dir: str | Path | None = None,
+                  sections: dict[str, Any] | None = None) -> list[Path]:
     written: list[Path] = []
     if json_path is not None:
-        written.append(write_results_json(analysis, json_path, result_sections(analysis)))
+        written.append(write_results_json(analysis, json_path, sections if sections is not None else result_sections(analysis)))
     if csv_dir is not None:
         written.extend(write_results_csv(analysis, csv_dir))
     return written
@@ -58,8 +73,7 @@ def write_results(analysis: Analysis, json_path: str | Path | None = None, csv_d
 
 # -- the calculation sheet set (`sheets build`) ---------------------------------
 
-# The reciprocal diagrams are computed by their render stages while the figures are drawn ("figures").
-BUILD_STAGES = ("reading project", "analysis", "member checks", "figures", "results", "assembly", "writing files")
+BUILD_STAGES = ("reading project", "analysis", "member checks", "diagrams", "figures", "results", "assembly", "writing files")
 CSV_CONTENTS = {
     "members.csv": "every member: ends, length, section, role, group",
     "forces.csv": "every member's force in every state",
@@ -96,8 +110,10 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     (figures of a removed state) are removed after the new PDF is in place.
     """
     from sheets.analysis.member_checks import member_checks, member_checks_csv
+    from sheets.analysis.sizing import size_members
+    from sheets.reciprocal.stage import project_diagrams
     from sheets.report.assemble import assemble
-    from sheets.report.figures import collect_figures, optional
+    from sheets.report.figures import collect_figures, drawn_states
     from sheets.report.sections import IssuedFile
     from sheets.report.templates import load_template
 
@@ -111,15 +127,17 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     analysis = analyse(project, progress)
     note("member checks")
     checks = member_checks(analysis)
-    size = optional("sheets.analysis.sizing", "size_members")
-    sizing = size(analysis) if size is not None else None
+    sizing = size_members(analysis)
+    note("diagrams")
+    diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress)
     note("figures")
-    figures, notes = collect_figures(analysis, template, progress)
+    figures, notes = collect_figures(analysis, template, progress, diagrams=diagrams)
     out.mkdir(parents=True, exist_ok=True)
     staging = Path(tempfile.mkdtemp(prefix=".sheets-build-", dir=out))
     try:
         note("results")
-        write_results(analysis, staging / "results.json", staging / "csv")
+        write_results(analysis, staging / "results.json", staging / "csv",
+                      result_sections(analysis, checks, sizing, diagrams))
         write_atomic(staging / "csv" / "member_checks.csv", member_checks_csv(checks, project, analysis.equilibrium.lengths))
         for fig in figures:
             write_atomic(staging / "figures" / fig.file_name, fig.file_bytes(project.info.prepared_by))

@@ -22,10 +22,46 @@ def _vec(values) -> list[float]:
     return [float(v) + 0.0 for v in np.asarray(values, dtype=float).ravel()]  # + 0.0: no "-0.0"
 
 
+def embedding_record(diagram: ForceDiagram) -> dict:
+    """How the diagram was embedded: kind, planarisation, projection."""
+    emb = diagram.embedding
+    proj = emb.projection
+    return {
+        "kind": emb.kind,
+        "planarised": emb.planarised,
+        "note": emb.note,
+        "projection": {
+            "name": proj.name,
+            "requested": None if proj.requested is None else _vec(proj.requested),
+            "direction": None if proj.direction is None else _vec(proj.direction),
+            "tilt_degrees": float(proj.tilt_degrees),
+            "basis": [_vec(row) for row in proj.basis],
+        },
+    }
+
+
+def scale_record(diagram: ForceDiagram) -> dict:
+    return {"newtons_per_metre": float(diagram.scale), "force_scale": float(diagram.force_scale)}
+
+
+def diagram_checks(diagram: ForceDiagram) -> dict:
+    """Closure, polygon, parallelism and length errors of the drawn diagram."""
+    emb = diagram.embedding
+    return {
+        "tolerance": diagram.tolerance,
+        "closure_error": diagram.closure_error,
+        "load_line_error": diagram.load_line_error,
+        "largest_node_error": float(diagram.node_error.max(initial=0.0)),
+        "largest_crossing_error": float(diagram.vertex_error[emb.n_nodes: emb.ideal].max(initial=0.0)),
+        "largest_parallel_error_radians": float(diagram.parallel_error.max(initial=0.0)),
+        "largest_length_error": float(diagram.length_error.max(initial=0.0)),
+        "passed": diagram.passed,
+    }
+
+
 def diagram_document(diagram: ForceDiagram) -> dict:
     """The JSON-ready dictionary for one diagram."""
     graph, emb = diagram.graph, diagram.embedding
-    proj = emb.projection
     crossing_name = {c.vertex: c.label for c in emb.crossings if not c.node}
     names = list(graph.node_ids) + [crossing_name.get(v, f"vertex {v}") for v in range(emb.n_nodes, emb.ideal)] + ["ideal"]
     m = graph.n_members
@@ -63,19 +99,8 @@ def diagram_document(diagram: ForceDiagram) -> dict:
         "state": {"id": diagram.state_id, "kind": diagram.state_kind, "title": diagram.state_title},
         "dimension": diagram.dim,
         "units": {"force": "N", "length": "m"},
-        "embedding": {
-            "kind": emb.kind,
-            "planarised": emb.planarised,
-            "note": emb.note,
-            "projection": {
-                "name": proj.name,
-                "requested": None if proj.requested is None else _vec(proj.requested),
-                "direction": None if proj.direction is None else _vec(proj.direction),
-                "tilt_degrees": float(proj.tilt_degrees),
-                "basis": [_vec(row) for row in proj.basis],
-            },
-        },
-        "scale": {"newtons_per_metre": float(diagram.scale), "force_scale": float(diagram.force_scale)},
+        "embedding": embedding_record(diagram),
+        "scale": scale_record(diagram),
         "spaces": [{"label": labels[f], "point": _vec(diagram.points[f])} for f in _label_order(labels)],
         "elements": elements,
         "edges": edges,
@@ -84,16 +109,7 @@ def diagram_document(diagram: ForceDiagram) -> dict:
             for c in emb.crossings
         ],
         "nodes": [{"id": nid, "polygon_error": float(diagram.node_error[i])} for i, nid in enumerate(graph.node_ids)],
-        "checks": {
-            "tolerance": diagram.tolerance,
-            "closure_error": diagram.closure_error,
-            "load_line_error": diagram.load_line_error,
-            "largest_node_error": float(diagram.node_error.max(initial=0.0)),
-            "largest_crossing_error": float(diagram.vertex_error[emb.n_nodes: emb.ideal].max(initial=0.0)),
-            "largest_parallel_error_radians": float(diagram.parallel_error.max(initial=0.0)),
-            "largest_length_error": float(diagram.length_error.max(initial=0.0)),
-            "passed": diagram.passed,
-        },
+        "checks": diagram_checks(diagram),
     }
 
 

@@ -514,11 +514,12 @@ def _load_line(ax, diagram: ForceDiagram) -> None:
 # -- report-stage adapters --------------------------------------------------------
 
 
-def reciprocal_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None) -> Path:
-    """``form_force_figure`` for one state of an analysis (signature of the report's figure sources)."""
-    return form_force_figure(force_diagram(analysis.project, analysis.state(state_id)), path, fmt)
+def reciprocal_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None, diagram=None) -> Path:
+    """``form_force_figure`` for one state of an analysis (signature of the report's figure sources);
+    ``diagram``: the state's force diagram where already built."""
+    return form_force_figure(diagram or force_diagram(analysis.project, analysis.state(state_id)), path, fmt)
 
 
-def closure_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None) -> Path:
+def closure_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None, diagram=None) -> Path:
     """``verification_figure`` for one state of an analysis."""
-    return verification_figure(force_diagram(analysis.project, analysis.state(state_id)), path, fmt)
+    return verification_figure(diagram or force_diagram(analysis.project, analysis.state(state_id)), path, fmt)

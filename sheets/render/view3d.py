@@ -217,8 +217,8 @@ def views_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None
     return save_figure(fig, path, fmt or "png", dpi=150)
 
 
-def force_views_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None) -> Path:
+def force_views_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None, diagram=None) -> Path:
     """``views_figure`` for one state of an analysis, in the project's [drawing] views."""
     project = analysis.project
-    diagram = force_diagram(project, analysis.state(state_id))
+    diagram = diagram or force_diagram(project, analysis.state(state_id))
     return views_figure(diagram, path, fmt, views=project.drawing.views or DEFAULT_VIEWS)

@@ -14,9 +14,12 @@ Sources, in the order the sheets use them (part of the sheet: module):
     force_diagram  3D views of form and force diagram        (render.view3d.force_views_figure)
     force_diagram  closure of the force diagram              (render.diagram2d.closure_figure)
     cells          each node's force cell                    (render.cells3d.node_cells_figure)
+    cells          the polyhedral diagram by polarity, 3D
+                   frames with a [polyhedral] table           (render.cells3d.polar_diagram_figure)
     minkowski      the Minkowski-sum view                    (render.minkowski.minkowski_figure)
 
-Render modules of other stages draw to a path ``f(analysis, state_id, path)``.
+Render modules of other stages draw to a path ``f(analysis, state_id, path, **inputs)``, the
+inputs being the state's diagrams as the build made them once (sheets.reciprocal.stage).
 Matplotlib figures are asked for as ``.rlvec`` (sheets.report.vector: recorded
 as vector paths), pyvista renders of 3D frames as PNG. A figure that cannot be drawn for one state
 (e.g. a node whose members are coplanar has no closed cell) does not stop the
@@ -111,10 +114,12 @@ def state_label(state) -> str:
 class Source:
     name: str
     states: Callable[[Analysis], list]  # the states it draws; [None] for the model
-    draw: Callable[..., Iterable["SheetFigure | FigureNote"]]  # (analysis, template, scratch, state)
+    # (analysis, template, scratch, state, prepared): ``prepared`` is the state's diagrams
+    # (sheets.reciprocal.stage.StateDiagrams) where the build made them, else None
+    draw: Callable[..., Iterable["SheetFigure | FigureNote"]]
 
 
-def _model(analysis: Analysis, template: Template, scratch: Path, state) -> Iterable[SheetFigure]:
+def _model(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
     p = analysis.project
     views = "" if p.dim == 2 else f" Orthographic views: {', '.join(p.drawing.views)}."
     labels = ("Node and member labels are the project's ids." if p.n_members <= template.labels_up_to
@@ -124,7 +129,7 @@ def _model(analysis: Analysis, template: Template, scratch: Path, state) -> Iter
                       vector=_vector(form_figure.model_figure(p, template.labels_up_to)))
 
 
-def _loads(analysis: Analysis, template: Template, scratch: Path, state) -> Iterable[SheetFigure]:
+def _loads(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
     p = analysis.project
     title = f"{state_label(state)}: {state.title}"
     yield SheetFigure(safe_key("loads", state.id), "loads", state.id, f"Loads, {title}",
@@ -133,7 +138,7 @@ def _loads(analysis: Analysis, template: Template, scratch: Path, state) -> Iter
                       vector=_vector(form_figure.loads_figure(p, state.loads, title)))
 
 
-def _forces(analysis: Analysis, template: Template, scratch: Path, state) -> Iterable[SheetFigure]:
+def _forces(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
     p = analysis.project
     title = f"{state_label(state)}: {state.title}"
     yield SheetFigure(safe_key("forces", state.id), "form_forces", state.id, f"Member forces, {title}",
@@ -148,17 +153,18 @@ def _loaded_cases(analysis: Analysis) -> list:
 
 
 def _external(module: str, function: str, part: str, title: str, caption: str, analysis: Analysis, scratch: Path,
-              state, vector: bool) -> list:
-    """One figure another render module draws to a path: ``module.function(analysis, state_id, path)``.
+              state, vector: bool, inputs: dict | None = None) -> list:
+    """One figure another render module draws to a path: ``module.function(analysis, state_id, path, **inputs)``.
 
     ``vector``: ask for ``.rlvec`` (matplotlib figures, kept as vectors), else PNG (pyvista renders).
+    ``inputs``: diagrams the build already made, so the render stage does not build them again.
     """
     draw = optional(module, function)
     key = safe_key(function.removesuffix("_figure").replace("_", "-"), state.id)
     path = scratch / f"{key}{VECTOR_SUFFIX if vector else '.png'}"
     label = f"{state_label(state)}: {state.title}"
     try:
-        written = Path(draw(analysis, state.id, path) or path)
+        written = Path(draw(analysis, state.id, path, **(inputs or {})) or path)
     except Exception as exc:  # one figure that cannot be drawn must not stop the sheet set
         return [FigureNote(f"{title} of {label} is not in this set: {type(exc).__name__}: {exc}")]
     if written.suffix == VECTOR_SUFFIX:  # the module may pick its own format: go by what it wrote
@@ -184,21 +190,54 @@ RECIPROCAL_CAPTION = (
     "the member; its points carry the space letters in lower case.")
 
 
-def _form_and_force(analysis: Analysis, template: Template, scratch: Path, state) -> Iterable[SheetFigure | FigureNote]:
+def _form_and_force(analysis: Analysis, template: Template, scratch: Path, state,
+                    prepared=None) -> Iterable[SheetFigure | FigureNote]:
     """The reciprocal figure (form beside force diagram) where that stage exists; else the coloured form alone."""
     if optional(*RECIPROCAL) is not None:
         items = _external(*RECIPROCAL, "force_diagram", "Form and force diagrams", RECIPROCAL_CAPTION, analysis,
-                          scratch, state, vector=True)
+                          scratch, state, vector=True, inputs=_prepared_diagram(prepared))
         yield from items
         if any(isinstance(i, SheetFigure) for i in items):
             return
     yield from _forces(analysis, template, scratch, state)
 
 
-def _state_figure(module: str, function: str, part: str, title: str, caption: str, vector_dims=(2, 3), dims=(2, 3)):
-    def draw(analysis: Analysis, template: Template, scratch: Path, state):
+def _prepared_diagram(prepared) -> dict:
+    return {"diagram": prepared.force} if prepared is not None and prepared.force is not None else {}
+
+
+def _prepared_cells(prepared) -> dict:
+    return {"cells": prepared.cells} if prepared is not None and prepared.cells is not None else {}
+
+
+def _prepared_view(prepared) -> dict:
+    return {"view": prepared.minkowski} if prepared is not None and prepared.minkowski is not None else {}
+
+
+def _polar(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure | FigureNote]:
+    """The connected polyhedral force diagram, where the project gives a cell complex and a lift exists."""
+    from sheets.reciprocal.polarity import project_polarity
+
+    polar = prepared.polar if prepared is not None and prepared.polar is not None else project_polarity(analysis, state.id)
+    if not polar.usable:
+        return [FigureNote(f"Polyhedral force diagram of {state_label(state)}: {polar.note}")]
+    return _external("sheets.render.cells3d", "polar_diagram_figure", "cells", "Polyhedral force diagram (polarity)",
+                     "One connected polyhedral force diagram from a stress function lifted over the cell complex: "
+                     "each member is a planar polygon perpendicular to it with area equal to its force (bluish green "
+                     "tension, vermillion compression); around each node the polygons close into a cell.",
+                     analysis, scratch, state, vector=False, inputs={"polar": polar})
+
+
+def _has_complex(analysis: Analysis) -> list:
+    spec = analysis.project.polyhedral
+    return drawn_states(analysis) if analysis.project.dim == 3 and (spec.cells or spec.find_tetrahedra) else []
+
+
+def _state_figure(module: str, function: str, part: str, title: str, caption: str, vector_dims=(2, 3), dims=(2, 3),
+                  inputs: Callable[[Any], dict] = lambda prepared: {}):
+    def draw(analysis: Analysis, template: Template, scratch: Path, state, prepared=None):
         return _external(module, function, part, title, caption, analysis, scratch, state,
-                         vector=analysis.project.dim in vector_dims)
+                         vector=analysis.project.dim in vector_dims, inputs=inputs(prepared))
 
     def states(analysis: Analysis) -> list:
         return drawn_states(analysis) if analysis.project.dim in dims and optional(module, function) is not None else []
@@ -213,19 +252,22 @@ SOURCES: tuple[Source, ...] = (
     _state_figure("sheets.render.view3d", "force_views_figure", "force_diagram", "Form and force diagrams in 3D views",
                   "Form (top row) and force diagram (bottom row) rendered in orthographic views; tube radius proportional "
                   "to |force|, colours as in the form diagram; scale bars true for lengths parallel to each view.",
-                  dims=(3,)),
+                  dims=(3,), inputs=_prepared_diagram),
     _state_figure("sheets.render.diagram2d", "closure_figure", "force_diagram", "Closure of the force diagram",
                   "How closely the drawn force diagram closes: each node's force polygon and the load line (left), each "
                   "edge against its analysed force (middle), both relative to the largest force and against the tolerance; "
-                  "and the load line drawn head to tail (right)."),
+                  "and the load line drawn head to tail (right).", inputs=_prepared_diagram),
     _state_figure("sheets.render.cells3d", "node_cells_figure", "cells", "Force cells at the nodes",
                   "Each node's force cell (Rankine's polyhedra, one closed cell per node; a polygon in 2D) drawn at the node, "
                   "all at one scale: a face per member with area |force| (bluish green tension, vermillion compression) "
-                  "and a face for the external force (black load, sky blue reaction).", vector_dims=(2,)),
+                  "and a face for the external force (black load, sky blue reaction).", vector_dims=(2,),
+                  inputs=_prepared_cells),
+    Source("polyhedral diagram", _has_complex, _polar),
     _state_figure("sheets.render.minkowski", "minkowski_figure", "minkowski", "Minkowski-sum view",
                   "The sum (1 - s) form + s force: every member becomes a rectangle (2D) or prism (3D) whose size is "
                   "proportional to |force| x length, its share of the load path (bluish green tension, vermillion "
-                  "compression); the totals are set beside Maxwell's load path theorem.", vector_dims=(2,)),
+                  "compression); the totals are set beside Maxwell's load path theorem.", vector_dims=(2,),
+                  inputs=_prepared_view),
 )
 
 
@@ -234,11 +276,15 @@ SOURCES: tuple[Source, ...] = (
 _WORK: dict = {}  # set in forked worker processes only: what the parent handed over
 
 
-def _task(index: int, state_id: str | None) -> list:
-    analysis, template, scratch, sources = _WORK["args"]
-    source = sources[index]
+def _run(args, index: int, state_id: str | None) -> list:
+    analysis, template, scratch, sources, diagrams = args
     state = None if state_id is None else analysis.state(state_id)
-    return list(source.draw(analysis, template, scratch, state))
+    prepared = None if state_id is None else diagrams.get(state_id)
+    return list(sources[index].draw(analysis, template, scratch, state, prepared))
+
+
+def _task(index: int, state_id: str | None) -> list:
+    return _run(_WORK["args"], index, state_id)
 
 
 def _start_worker(args) -> None:
@@ -246,7 +292,8 @@ def _start_worker(args) -> None:
 
 
 def collect_figures(analysis: Analysis, template: Template, progress: Progress | None = None, workers: int | None = None,
-                    sources: tuple[Source, ...] | None = None) -> tuple[tuple[SheetFigure, ...], tuple[str, ...]]:
+                    sources: tuple[Source, ...] | None = None,
+                    diagrams: dict | None = None) -> tuple[tuple[SheetFigure, ...], tuple[str, ...]]:
     """Every figure of the set in a fixed order, and notes on the ones left out.
 
     Figures are independent, so with ``workers`` > 1 (default: up to 2, the cores a build
@@ -260,7 +307,7 @@ def collect_figures(analysis: Analysis, template: Template, progress: Progress |
     workers = min(2, os.cpu_count() or 1) if workers is None else workers
     results: list[list] = []
     with tempfile.TemporaryDirectory(prefix="sheets-figures-") as scratch:
-        args = (analysis, template, Path(scratch), sources)
+        args = (analysis, template, Path(scratch), sources, diagrams or {})
         if workers > 1 and len(tasks) > 1 and "fork" in multiprocessing.get_all_start_methods():
             context = multiprocessing.get_context("fork")
             with ProcessPoolExecutor(workers, mp_context=context, initializer=_start_worker, initargs=(args,)) as pool:
@@ -271,8 +318,7 @@ def collect_figures(analysis: Analysis, template: Template, progress: Progress |
         else:
             for k, (i, sid) in enumerate(tasks):
                 note(f"figures: {sources[i].name} {sid or ''} ({k + 1}/{len(tasks)})")
-                state = None if sid is None else analysis.state(sid)
-                results.append(list(sources[i].draw(analysis, template, Path(scratch), state)))
+                results.append(_run(args, i, sid))
     figures = [item for items in results for item in items if isinstance(item, SheetFigure)]
     notes = [item.text for items in results for item in items if isinstance(item, FigureNote)]
     return tuple(_unique_keys(figures)), tuple(notes)

@@ -13,7 +13,7 @@ from typing import Iterator, Sequence
 
 import numpy as np
 from rich.console import Console
-from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
+from rich.progress import BarColumn, Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
 from sheets import __version__, build
@@ -68,6 +68,14 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>/)")
     p.set_defaults(run=_build)
     return parser
+
+
+@contextmanager
+def progress_bar(first: str = "starting"):
+    """A transient bar with a description, on stderr; yields (bar, task) for the caller to update."""
+    with Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
+                  TimeElapsedColumn(), console=err, transient=True) as bar:
+        yield bar, bar.add_task(first, total=None)
 
 
 @contextmanager
@@ -179,12 +187,9 @@ def _solve(args) -> int:
 
 
 def _build(args) -> int:
-    from rich.progress import BarColumn
-
     stages = build.BUILD_STAGES
-    with Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
-                  TimeElapsedColumn(), console=err, transient=True) as bar:
-        task = bar.add_task("starting", total=len(stages))
+    with progress_bar() as (bar, task):
+        bar.update(task, total=len(stages))
 
         def note(message: str) -> None:
             if message in stages:
@@ -203,11 +208,7 @@ def _build(args) -> int:
 
 
 def _draw(args) -> int:
-    from rich.progress import BarColumn
-
-    with Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
-                  TimeElapsedColumn(), console=err, transient=True) as bar:
-        task = bar.add_task("reading project", total=None)
+    with progress_bar("reading project") as (bar, task):
 
         def on_state(done: int, total: int, state_id: str) -> None:
             bar.update(task, completed=done, total=total, description=f"drawing {state_id}" if state_id else "done")

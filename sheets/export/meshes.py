@@ -142,7 +142,7 @@ def write_mesh(mesh: MeshFaces, path) -> Path:
 
 
 def _gltf(poly, mesh: MeshFaces, path: Path) -> Path:
-    import pyvista as pv
+    from sheets.render.offscreen import offscreen_plotter
 
     largest = float(np.abs(mesh.force).max(initial=0.0))
     colours = [palette.force_colour(f, largest) if k != "node" else "#DDDDDD" for f, k in zip(mesh.force, mesh.kind)]
@@ -150,7 +150,7 @@ def _gltf(poly, mesh: MeshFaces, path: Path) -> Path:
     poly = poly.triangulate()  # glTF holds triangles; triangulate keeps cell data per triangle
     poly.cell_data["rgb"] = rgb[poly.cell_data["vtkOriginalCellIds"]] if "vtkOriginalCellIds" in poly.cell_data else \
         _repeat_rgb(rgb, mesh)
-    plotter = pv.Plotter(off_screen=True)
+    plotter = offscreen_plotter()
     plotter.add_mesh(poly, scalars="rgb", rgb=True)
     with atomic_path(path) as tmp:
         plotter.export_gltf(str(tmp))

@@ -21,6 +21,7 @@ import numpy as np
 from sheets.export.atomic import atomic_path
 from sheets.reciprocal.cells import NodeCell, NodeCells, node_cells
 from sheets.render import palette
+from sheets.render.offscreen import offscreen_plotter
 
 WINDOW = (1600, 1200)
 CELL_FRACTION = 0.35  # largest cell drawn this fraction of the median member length
@@ -57,11 +58,7 @@ def _cell_mesh(cell: NodeCell, at: np.ndarray, scale: float):
 
 
 def _plotter(window=WINDOW, shape=(1, 1)):
-    import pyvista as pv
-
-    plotter = pv.Plotter(off_screen=True, window_size=list(window), shape=shape, border=False)
-    plotter.set_background("white")
-    return plotter
+    return offscreen_plotter(window, shape)
 
 
 def _rgb(colour: str) -> list[int]:

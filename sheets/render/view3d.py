@@ -25,8 +25,6 @@ render, so VTK does not try X first; it needs the system library OSMesa
 
 from __future__ import annotations
 
-import ctypes.util
-import os
 from pathlib import Path
 
 import numpy as np
@@ -36,18 +34,11 @@ from sheets.model.schema import NAMED_DIRECTIONS
 from sheets.reciprocal.diagram import ForceDiagram, force_diagram
 from sheets.reciprocal.projection import plane_basis
 from sheets.render import palette
+from sheets.render.offscreen import offscreen_plotter
 from sheets.render.diagram2d import FONT, ROLE_STYLE, _edge_tag, _round_length, role_handles, save_figure
 
 LABELS_UP_TO = 60  # 3D labels get crowded sooner than 2D ones
 DEFAULT_VIEWS = ("plan", "front", "side", "axonometric")
-
-
-def prefer_offscreen_backend() -> None:
-    """Choose VTK's OSMesa window where there is no display and the user chose nothing."""
-    if "VTK_DEFAULT_OPENGL_WINDOW" in os.environ or os.environ.get("DISPLAY"):
-        return
-    if ctypes.util.find_library("OSMesa"):
-        os.environ["VTK_DEFAULT_OPENGL_WINDOW"] = "vtkOSOpenGLRenderWindow"
 
 
 def _rgb(colour: str) -> tuple[float, float, float]:
@@ -109,7 +100,6 @@ def _force_arrows(diagram: ForceDiagram, extent: float):
 
 def render_view(diagram: ForceDiagram, which: str, view, size=(640, 520)) -> tuple[np.ndarray, float]:
     """One orthographic render: (image (h, w, 3) uint8, pixels per drawing unit: m for form, N for force)."""
-    prefer_offscreen_backend()
     import pyvista as pv
 
     direction = NAMED_DIRECTIONS[view] if isinstance(view, str) else tuple(view)
@@ -122,9 +112,8 @@ def render_view(diagram: ForceDiagram, which: str, view, size=(640, 520)) -> tup
     basis = plane_basis(direction, 2)
     d = np.asarray(direction, float) / np.linalg.norm(direction)
 
-    plotter = pv.Plotter(off_screen=True, window_size=list(size))
+    plotter = offscreen_plotter(size)
     try:
-        plotter.set_background("white")
         lengths = np.linalg.norm(segs[:, 1] - segs[:, 0], axis=1) if len(segs) else np.zeros(0)
         for role in ROLE_STYLE:
             pick = [k for k, r in enumerate(roles) if r == role and lengths[k] > 1e-9 * extent]

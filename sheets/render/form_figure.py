@@ -26,24 +26,11 @@ from matplotlib.lines import Line2D
 
 from sheets.model.project import Project
 from sheets.model.schema import NAMED_DIRECTIONS
+from sheets.reciprocal.projection import plane_basis
 from sheets.render import palette
 
 PANEL_INCHES = 6.4  # width of a single-view figure
 FONT = 6.5
-
-
-def view_basis(direction, vertical_axis: int) -> np.ndarray:
-    """(2, 3) rows = screen x and y for an orthographic view looking along -direction."""
-    d = np.asarray(direction, dtype=float)
-    d /= np.linalg.norm(d)
-    up = np.zeros(3)
-    up[vertical_axis] = 1.0
-    if abs(d @ up) > 0.999:  # looking along the vertical: the next axis points up the page
-        up = np.zeros(3)
-        up[(vertical_axis + 2) % 3] = 1.0
-    x = np.cross(up, d)
-    x /= np.linalg.norm(x)
-    return np.vstack([x, np.cross(d, x)])
 
 
 def _views(project: Project) -> list[tuple[str, np.ndarray]]:
@@ -51,7 +38,7 @@ def _views(project: Project) -> list[tuple[str, np.ndarray]]:
     if project.dim == 2:
         return [("", np.eye(2))]
     names = project.drawing.views or ("plan",)
-    return [(name, view_basis(NAMED_DIRECTIONS[name], project.vertical_axis).T) for name in names]
+    return [(name, plane_basis(NAMED_DIRECTIONS[name], project.vertical_axis).T) for name in names]
 
 
 def _layout(project: Project):

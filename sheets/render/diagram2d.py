@@ -35,10 +35,15 @@ from pathlib import Path
 
 import matplotlib
 import numpy as np
-from matplotlib.collections import LineCollection
+from matplotlib.artist import Artist
+from matplotlib.collections import LineCollection, PolyCollection
+from matplotlib.colors import to_rgba
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
+from matplotlib.markers import MarkerStyle
 from matplotlib.patches import FancyArrowPatch
+from matplotlib.path import Path as MplPath
+from matplotlib.transforms import IdentityTransform
 
 from sheets.export.atomic import atomic_path
 from sheets.reciprocal.anchors import arrow_sides, space_anchors
@@ -186,6 +191,95 @@ def _text(ax, x, y, text, **kw):
     ax.text(x, y, text, **style)
 
 
+SEGMENTS_ONE_BY_ONE = 2000  # above this many lines, lines of one colour, style and width are drawn as one path
+WIDTH_STEP = 0.05  # points: widths are rounded to this when lines are gathered (finer than the eye sees)
+
+
+def _add_lines(ax, segs: np.ndarray, colours: list, widths: list, styles=None, zorder: float = 2) -> None:
+    """Line segments (k, 2, 2), drawn in the given order (thin under thick where sorted by |force|).
+
+    Up to SEGMENTS_ONE_BY_ONE one line per segment. Above, the segments of one colour, style and
+    width (rounded to WIDTH_STEP) are joined into one polyline broken by NaNs, so a renderer walks a
+    few dozen paths instead of one per member: same picture, a fraction of the time and file size.
+    """
+    styles = ["solid"] * len(segs) if styles is None else list(styles)
+    if len(segs) <= SEGMENTS_ONE_BY_ONE:
+        ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, linestyles=styles, capstyle="round",
+                                         zorder=zorder))
+        return
+    steps = np.round(np.asarray(widths, dtype=float) / WIDTH_STEP).astype(np.int64)
+    groups: dict[tuple, list[int]] = {}
+    for k, key in enumerate(zip(steps.tolist(), colours, map(str, styles))):
+        groups.setdefault(key, []).append(k)
+    order = sorted(groups, key=lambda key: (key[0], min(groups[key])))  # thin first, as the segments came
+    lines, group_colours, group_widths, group_styles = [], [], [], []
+    for key in order:
+        pick = np.asarray(groups[key])
+        broken = np.concatenate([segs[pick], np.full((len(pick), 1, 2), np.nan)], axis=1).reshape(-1, 2)[:-1]
+        lines.append(broken)
+        group_colours.append(key[1])
+        group_widths.append(key[0] * WIDTH_STEP)
+        group_styles.append(styles[pick[0]])
+    ax.add_collection(LineCollection(lines, colors=group_colours, linewidths=group_widths, linestyles=group_styles,
+                                     capstyle="round", zorder=zorder))
+
+
+MARKERS_ONE_BY_ONE = 500  # above this many equal markers, they are drawn as one path
+
+
+class _MarkerCloud(Artist):
+    """Many equal markers drawn as one compound path: a renderer walks one path instead of one per
+    marker (what a scatter of thousands of points costs). Sizes in points, as for ``scatter``."""
+
+    def __init__(self, xy: np.ndarray, marker: str, size: float, facecolor, edgecolor, lw: float, zorder: float):
+        super().__init__()
+        style = MarkerStyle(marker)
+        self._xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+        marker_path = style.get_path().transformed(style.get_transform().scale(math.sqrt(size)))
+        if marker_path.codes is not None and (marker_path.codes >= MplPath.CURVE3).any() and style.is_filled():
+            # a circle as a 16-sided polygon: the same at marker size, and straight segments are cheap to walk
+            ring = marker_path.to_polygons(closed_only=True)[0]
+            marker_path = MplPath(ring, np.r_[MplPath.MOVETO, [MplPath.LINETO] * (len(ring) - 2), MplPath.CLOSEPOLY])
+        self._marker = marker_path
+        self._filled = style.is_filled()
+        self._face = None if facecolor in (None, "none") else to_rgba(facecolor)
+        self._edge = to_rgba(edgecolor if edgecolor is not None else facecolor)
+        self._lw = lw
+        self.set_zorder(zorder)
+
+    def draw(self, renderer):
+        if not self.get_visible() or not len(self._xy):
+            return
+        at = self.axes.transData.transform(self._xy)
+        verts = self._marker.vertices * renderer.points_to_pixels(1.0)
+        codes = self._marker.codes
+        if codes is None:
+            codes = np.r_[MplPath.MOVETO, [MplPath.LINETO] * (len(verts) - 1)]
+        path = MplPath((at[:, None, :] + verts[None]).reshape(-1, 2), np.tile(codes, len(at)))
+        gc = renderer.new_gc()
+        self._set_gc_clip(gc)
+        gc.set_foreground(self._edge, isRGBA=True)
+        gc.set_linewidth(self._lw)
+        renderer.draw_path(gc, path, IdentityTransform(), self._face if self._filled else None)
+        gc.restore()
+
+
+def _markers(ax, xy: np.ndarray, marker: str, size: float, colour=None, facecolor=None, edgecolor=None, lw: float = 0.0,
+             zorder: float = 3) -> None:
+    """``ax.scatter`` of equal markers; above MARKERS_ONE_BY_ONE one path (_MarkerCloud), same look."""
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    if len(xy) <= MARKERS_ONE_BY_ONE:
+        style = {"color": colour} if colour is not None else {"facecolor": facecolor, "edgecolor": edgecolor}
+        ax.scatter(xy[:, 0], xy[:, 1], s=size, marker=marker, lw=lw, zorder=zorder, **style)
+        return
+    face = colour if colour is not None else facecolor
+    edge = colour if colour is not None else edgecolor
+    if not MarkerStyle(marker).is_filled():  # stroked markers ("x") take the colour as their line
+        face, edge = None, edge if edge is not None else face
+    ax.add_artist(_MarkerCloud(xy, marker, size, face, edge, lw, zorder))
+    ax.update_datalim(xy)
+
+
 # -- form ----------------------------------------------------------------------
 
 
@@ -203,8 +297,8 @@ def draw_form(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
     segs = np.stack([pts[graph.tails[:m]], pts[graph.heads[:m]]], axis=1)[order]
     colours = [ROLE_STYLE[roles[e]][0] for e in order]
     widths = [palette.line_width(graph.forces[e], largest) for e in order]
-    ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, capstyle="round", zorder=2))
-    ax.scatter(pts[: graph.n_nodes, 0], pts[: graph.n_nodes, 1], s=5 if show else 1, color=palette.NODE, zorder=3, lw=0)
+    _add_lines(ax, segs, colours, widths)
+    _markers(ax, pts[: graph.n_nodes], "o", 5 if show else 1, colour=palette.NODE, zorder=3)
     _external_arrows(ax, diagram, extent, show)
     _crossing_marks(ax, diagram, show)
     if show:
@@ -225,6 +319,8 @@ def draw_form(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
 
 
 def _external_arrows(ax, diagram: ForceDiagram, extent: float, show: bool) -> None:
+    """Loads and reactions at their nodes, gathered into a few artists (one per colour and kind), so a
+    frame with thousands of loaded nodes costs no more artists than one with a few."""
     graph, emb = diagram.graph, diagram.embedding
     m = graph.n_members
     if graph.n_elements == m:
@@ -232,12 +328,14 @@ def _external_arrows(ax, diagram: ForceDiagram, extent: float, show: bool) -> No
     pts = emb.points
     sides = arrow_sides(diagram)
     largest = float(graph.forces[m:].max(initial=0.0)) or 1.0
+    routes = []  # dashed routes out to the ideal vertex
+    along: dict[str, dict[bool, list]] = {}  # colour -> towards the viewer? -> points of forces along the view
+    arrows = []  # (tail, head, width, colour)
     for r, node in enumerate(graph.external_nodes.tolist()):
         x = pts[node]
         ray = emb.ray_directions[r]
         if emb.ray_reach[r] > 0:  # the edge's route out to the ideal vertex crosses members: show it
-            end = x + ray * (emb.ray_reach[r] + 0.04 * extent)
-            ax.plot([x[0], end[0]], [x[1], end[1]], color=palette.CROSSING, lw=0.6, ls=(0, (2, 2)), zorder=1)
+            routes.append([x, x + ray * (emb.ray_reach[r] + 0.04 * extent)])
         parts = ((graph.external_loads[r], palette.LOAD, "P"), (graph.external_reactions[r], palette.REACTION, "R"))
         for vector, colour, tag in parts:
             size = float(np.linalg.norm(vector))
@@ -247,19 +345,51 @@ def _external_arrows(ax, diagram: ForceDiagram, extent: float, show: bool) -> No
             length = (0.05 + 0.13 * size / largest) * extent
             if np.linalg.norm(drawn) <= IN_PLANE * size:  # along the view: a circle with a dot (towards) or cross
                 toward = float(np.asarray(emb.projection.direction) @ vector) > 0
-                ax.scatter([x[0]], [x[1]], s=40, marker="o", facecolor="white", edgecolor=colour, lw=1.0, zorder=6)
-                ax.scatter([x[0]], [x[1]], s=14 if toward else 22, marker="." if toward else "x", color=colour, lw=1.0, zorder=7)
+                along.setdefault(colour, {}).setdefault(toward, []).append(x)
                 label_at = x + ray * 0.04 * extent
             else:
                 direction = drawn / np.linalg.norm(drawn)
                 tail, head = (x, x + length * direction) if sides[r] > 0 else (x - length * direction, x)
-                ax.add_patch(FancyArrowPatch(tuple(tail), tuple(head), arrowstyle="-|>", mutation_scale=7,
-                                             lw=palette.line_width(size, diagram.force_scale) * 0.7,
-                                             color=colour, zorder=5, shrinkA=0, shrinkB=0))
+                arrows.append((tail, head, palette.line_width(size, diagram.force_scale) * 0.7, colour, "solid"))
                 label_at = tail if sides[r] < 0 else head
             if show:
                 ax.annotate(f"{tag}@{graph.node_ids[node]}", label_at, xytext=(0, 3), textcoords="offset points",
                             fontsize=FONT - 1, color=colour, ha="center", va="bottom", zorder=7)
+    if routes:
+        ax.add_collection(LineCollection(routes, colors=palette.CROSSING, linewidths=0.6, linestyles=[(0, (2, 2))],
+                                         zorder=1))
+    for colour, by_sense in along.items():
+        ring = np.array([p for points in by_sense.values() for p in points])
+        _markers(ax, ring, "o", 40, facecolor="white", edgecolor=colour, lw=1.0, zorder=6)
+        for toward, points in by_sense.items():
+            _markers(ax, np.array(points), "." if toward else "x", 14 if toward else 22, colour=colour, lw=1.0, zorder=7)
+    _draw_arrows(ax, arrows, extent)
+
+
+ARROWS_ONE_BY_ONE = 200  # above this many load/reaction arrows, shafts and heads are drawn as two collections
+
+
+def _draw_arrows(ax, arrows: list, extent: float, mutation_scale: float = 7, zorder: float = 5) -> None:
+    """Arrows (tail, head, width, colour, line style): each its own patch for a few; for many, one line
+    collection of shafts and one of filled heads sized to the drawing (a patch per arrow costs seconds per
+    thousand)."""
+    if len(arrows) <= ARROWS_ONE_BY_ONE:
+        for tail, head, width, colour, style in arrows:
+            ax.add_patch(FancyArrowPatch(tuple(tail), tuple(head), arrowstyle="-|>", mutation_scale=mutation_scale,
+                                         lw=width, color=colour, ls=style, zorder=zorder, shrinkA=0, shrinkB=0))
+        return
+    tails = np.array([a[0] for a in arrows], dtype=float)
+    heads = np.array([a[1] for a in arrows], dtype=float)
+    along = heads - tails
+    unit = along / np.maximum(np.linalg.norm(along, axis=1), 1e-300)[:, None]
+    across = np.stack([-unit[:, 1], unit[:, 0]], axis=1)
+    size = 0.012 * extent
+    base = heads - size * unit
+    colours = [a[3] for a in arrows]
+    ax.add_collection(LineCollection(np.stack([tails, base], axis=1), colors=colours, linewidths=[a[2] for a in arrows],
+                                     linestyles=[a[4] for a in arrows], capstyle="butt", zorder=zorder))
+    triangles = np.stack([heads, base + 0.4 * size * across, base - 0.4 * size * across], axis=1)
+    ax.add_collection(PolyCollection(triangles, facecolors=colours, edgecolors="none", zorder=zorder))
 
 
 def _crossing_marks(ax, diagram: ForceDiagram, show: bool) -> None:
@@ -267,10 +397,10 @@ def _crossing_marks(ax, diagram: ForceDiagram, show: bool) -> None:
     through = [c for c in diagram.crossings if c.node]
     if new:
         xy = np.array([c.point for c in new])
-        ax.scatter(xy[:, 0], xy[:, 1], s=16, marker="o", facecolor="white", edgecolor=palette.CROSSING, lw=1.0, zorder=4)
+        _markers(ax, xy, "o", 16, facecolor="white", edgecolor=palette.CROSSING, lw=1.0, zorder=4)
     if through:
         xy = np.array([c.point for c in through])
-        ax.scatter(xy[:, 0], xy[:, 1], s=60, marker="o", facecolor="none", edgecolor=palette.CROSSING, lw=0.9, zorder=4)
+        _markers(ax, xy, "o", 60, facecolor="none", edgecolor=palette.CROSSING, lw=0.9, zorder=4)
     if show and len(diagram.crossings) <= 3 * CROSSING_LIST:
         for c in diagram.crossings:
             ax.annotate(c.label, c.point, xytext=(3, -3), textcoords="offset points", fontsize=FONT - 1,
@@ -292,8 +422,8 @@ def draw_force(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
     colours = [ROLE_STYLE[roles[k]][0] for k in order]
     styles = [ROLE_STYLE[roles[k]][1] for k in order]
     widths = [palette.line_width(forces[k], largest) for k in order]
-    ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, linestyles=styles, capstyle="round", zorder=2))
-    ax.scatter(pts[:, 0], pts[:, 1], s=4, color=palette.NODE, zorder=3, lw=0)
+    _add_lines(ax, segs, colours, widths, styles)
+    _markers(ax, pts, "o", 4, colour=palette.NODE, zorder=3)
     extent = float(np.ptp(pts, axis=0).max()) if len(pts) > 1 else 0.0
     extent = extent or 1.0
     if _show_labels(diagram, labels):
@@ -420,7 +550,10 @@ def _bar_colours(values: np.ndarray, tolerance: float):
     return [palette.TENSION if v <= tolerance else palette.COMPRESSION for v in values]
 
 
-def _log_axis(ax, labels: list[str], title: str, ylabel: str, tolerance: float):
+BARS_UP_TO = 200  # items above which errors are drawn ranked, as one curve, instead of a bar each
+
+
+def _log_axis(ax, labels: list[str], title: str, ylabel: str, tolerance: float, worst: str | None = None):
     ax.set_yscale("log")
     ax.set_ylim(FLOOR / 2, max(10 * tolerance, 1e-6))
     ax.axhline(tolerance, color=palette.NODE, ls="--", lw=0.8)
@@ -430,8 +563,28 @@ def _log_axis(ax, labels: list[str], title: str, ylabel: str, tolerance: float):
     if len(labels) <= 40:
         ax.set_xticks(range(len(labels)))
         ax.set_xticklabels(labels, rotation=90, fontsize=FONT - 1)
-    else:
+    elif worst is None:
         ax.set_xlabel(f"{len(labels)} items, in file order", fontsize=FONT)
+    else:
+        ax.set_xlabel(f"{len(labels)} items, ranked by error, largest first (largest: {worst})", fontsize=FONT)
+
+
+def _error_bars(ax, values: np.ndarray, labels: list[str], tolerance: float) -> str | None:
+    """One bar per item in file order; above BARS_UP_TO items the errors ranked largest first, filled
+    under one curve (coloured against the tolerance): a bar each would be thinner than a hairline.
+    Returns the label of the largest error when ranked, else None."""
+    if len(values) <= BARS_UP_TO:
+        ax.bar(range(len(values)), values, color=_bar_colours(values, tolerance), width=0.8)
+        return None
+    rank = np.argsort(-values, kind="stable")
+    ranked = values[rank]
+    x = np.arange(len(ranked))
+    within = ranked <= tolerance
+    for mask, colour in ((~within, palette.COMPRESSION), (within, palette.TENSION)):
+        if mask.any():
+            ax.fill_between(x, FLOOR / 2, ranked, where=mask, step="mid", color=colour, lw=0)
+    ax.set_xlim(-0.5, len(ranked) - 0.5)
+    return labels[int(rank[0])]
 
 
 def _closure_bars(ax, diagram: ForceDiagram) -> None:
@@ -444,8 +597,9 @@ def _closure_bars(ax, diagram: ForceDiagram) -> None:
     values.append(diagram.load_line_error)
     labels.append("load line")
     values = np.maximum(np.array(values), FLOOR)
-    ax.bar(range(len(values)), values, color=_bar_colours(values, diagram.tolerance), width=0.8)
-    _log_axis(ax, labels, "Force polygon of each node, and the load line", "|sum of forces| / largest force", diagram.tolerance)
+    worst = _error_bars(ax, values, labels, diagram.tolerance)
+    _log_axis(ax, labels, "Force polygon of each node, and the load line", "|sum of forces| / largest force",
+              diagram.tolerance, worst)
 
 
 def _edge_bars(ax, diagram: ForceDiagram) -> None:
@@ -454,10 +608,14 @@ def _edge_bars(ax, diagram: ForceDiagram) -> None:
     np.maximum.at(per_element, diagram.edge_element, diagram.edge_error)
     values = np.maximum(per_element, FLOOR)
     labels = [_edge_tag(diagram, e) for e in range(graph.n_elements)]
-    ax.bar(range(len(values)), values, color=_bar_colours(values, diagram.tolerance), width=0.8)
-    angles = np.maximum(np.r_[diagram.parallel_error, np.zeros(graph.n_elements - graph.n_members)], FLOOR)
-    ax.plot(range(graph.n_members), angles[: graph.n_members], "o", ms=2, color=palette.LABEL)
-    _log_axis(ax, labels, "Each force edge against the analysed force", "|drawn - analysed| / largest force", diagram.tolerance)
+    worst = _error_bars(ax, values, labels, diagram.tolerance)
+    angles = np.maximum(diagram.parallel_error[: graph.n_members], FLOOR)
+    if worst is None:
+        ax.plot(range(graph.n_members), angles, "o", ms=2, color=palette.LABEL)
+    else:  # ranked on their own, a marker every few items
+        ax.plot(np.sort(angles)[::-1], "o-", ms=2, lw=0.5, color=palette.LABEL, markevery=max(1, len(angles) // 60))
+    _log_axis(ax, labels, "Each force edge against the analysed force", "|drawn - analysed| / largest force",
+              diagram.tolerance, worst)
 
 
 def _load_line(ax, diagram: ForceDiagram) -> None:
@@ -490,16 +648,17 @@ def _load_line(ax, diagram: ForceDiagram) -> None:
     gap = float(np.linalg.norm(pts3[-1] - pts3[0])) / (diagram.force_scale or 1.0)
     xy = _drawing_points(diagram, pts3)
     largest = diagram.force_scale
+    arrows = []
     for i, h in enumerate(around.tolist()):
         e = int(emb.element[h // 2])
         colour, dashes = ROLE_STYLE[graph.kinds[e]]
-        ax.add_patch(FancyArrowPatch(tuple(xy[i]), tuple(xy[i + 1]), arrowstyle="-|>", mutation_scale=8,
-                                     lw=palette.line_width(graph.forces[e], largest), color=colour, ls=dashes, zorder=3,
-                                     shrinkA=0, shrinkB=0))
+        arrows.append((xy[i], xy[i + 1], palette.line_width(graph.forces[e], largest), colour, dashes))
         if len(around) <= 40:  # labels alternate sides: collinear loads overlap on the line
             ax.annotate(_edge_tag(diagram, e), (xy[i] + xy[i + 1]) / 2, xytext=(8 if i % 2 else -8, 0),
                         textcoords="offset points", ha="left" if i % 2 else "right", va="center", fontsize=FONT - 0.5,
                         color=colour, zorder=5)
+    extent = float(np.ptp(xy, axis=0).max()) if len(xy) > 1 else 0.0
+    _draw_arrows(ax, arrows, extent or 1.0, mutation_scale=8, zorder=3)
     ax.scatter(xy[:1, 0], xy[:1, 1], s=20, color=palette.NODE, zorder=4)
     ax.annotate(f"start/end: {diagram.space_labels[start_face].lower()}", xy[0], xytext=(4, 4), textcoords="offset points",
                 fontsize=FONT, zorder=5)

@@ -98,53 +98,97 @@ def _force_arrows(diagram: ForceDiagram, extent: float):
     return np.array(segs).reshape(-1, 2, 3), roles, np.array(sizes)
 
 
-def render_view(diagram: ForceDiagram, which: str, view, size=(640, 520)) -> tuple[np.ndarray, float]:
-    """One orthographic render: (image (h, w, 3) uint8, pixels per drawing unit: m for form, N for force)."""
+TUBE_SIDES = 10  # sides of a member's tube
+TUBE_SIDES_MANY = 6  # ... above TUBE_DETAIL_UP_TO segments, where a tube is a few pixels across
+TUBE_DETAIL_UP_TO = 4000
+TUBES_UP_TO = 50000  # above, segments are drawn as lines (width by |force|): tubes of half a million
+# force-diagram edges cost minutes of software rendering, lines about a second a view
+LINE_PIXELS = (1.0, 5.0)  # line width in pixels at zero and at the largest force
+LINE_WIDTHS = 12  # width classes per role (one actor each)
+
+
+def _tubes(segs: np.ndarray, roles: list[str], sizes: np.ndarray, extent: float, largest: float) -> list:
+    """One mesh per role present and what to draw it with: tubes (radius proportional to |force|, one tube
+    filter per role), or above TUBES_UP_TO segments lines in LINE_WIDTHS classes of width by |force|.
+    Returns [(mesh, colour, line width in pixels or None for tubes)]."""
     import pyvista as pv
 
-    direction = NAMED_DIRECTIONS[view] if isinstance(view, str) else tuple(view)
-    segs, roles, sizes, labels = _scene(diagram, which)
+    lengths = np.linalg.norm(segs[:, 1] - segs[:, 0], axis=1) if len(segs) else np.zeros(0)
+    roles = np.asarray(roles, dtype=object)
+    sides = TUBE_SIDES if len(segs) <= TUBE_DETAIL_UP_TO else TUBE_SIDES_MANY
+    meshes = []
+
+    def lines_of(pick):
+        cells = np.hstack([np.full((len(pick), 1), 2), np.arange(2 * len(pick)).reshape(-1, 2)]).ravel()
+        return pv.PolyData(segs[pick].reshape(-1, 3), lines=cells)
+
+    for role in ROLE_STYLE:
+        pick = np.flatnonzero((roles == role) & (lengths > 1e-9 * extent))
+        if not len(pick):
+            continue
+        colour = ROLE_STYLE[role][0]
+        if len(segs) > TUBES_UP_TO:
+            width_class = np.minimum((sizes[pick] / largest * LINE_WIDTHS).astype(np.int64), LINE_WIDTHS - 1)
+            for c in range(LINE_WIDTHS):
+                chosen = pick[width_class == c]
+                if len(chosen):
+                    thin, thick = LINE_PIXELS
+                    meshes.append((lines_of(chosen), colour, thin + (thick - thin) * (c + 0.5) / LINE_WIDTHS))
+            continue
+        poly = lines_of(pick)
+        poly.point_data["radius"] = np.repeat(0.0015 * extent + 0.009 * extent * sizes[pick] / largest, 2)
+        meshes.append((poly.tube(scalars="radius", absolute=True, n_sides=sides, capping=True), colour, None))
+    return meshes
+
+
+def render_views(diagram: ForceDiagram, which: str, views, size=(640, 520), scene=None) -> list[tuple[np.ndarray, float]]:
+    """Orthographic renders of one diagram in each of ``views``, the scene built once and only the camera
+    moved: [(image (h, w, 3) uint8, pixels per drawing unit: m for form, N for force)].
+    ``scene``: ``_scene(diagram, which)`` where the caller has it already."""
+    segs, roles, sizes, labels = scene if scene is not None else _scene(diagram, which)
     pts = segs.reshape(-1, 3)
     centre = (pts.min(axis=0) + pts.max(axis=0)) / 2 if len(pts) else np.zeros(3)
     extent = float(np.ptp(pts, axis=0).max()) if len(pts) else 1.0
     extent = extent or 1.0
     largest = float(sizes.max(initial=0.0)) or 1.0
-    basis = plane_basis(direction, 2)
-    d = np.asarray(direction, float) / np.linalg.norm(direction)
-
+    rendered = []
     plotter = offscreen_plotter(size)
     try:
-        lengths = np.linalg.norm(segs[:, 1] - segs[:, 0], axis=1) if len(segs) else np.zeros(0)
-        for role in ROLE_STYLE:
-            pick = [k for k, r in enumerate(roles) if r == role and lengths[k] > 1e-9 * extent]
-            if not pick:
-                continue
-            radius = np.repeat(0.0015 * extent + 0.009 * extent * sizes[pick] / largest, 2)
-            lines = np.hstack([np.full((len(pick), 1), 2), np.arange(2 * len(pick)).reshape(-1, 2)]).ravel()
-            poly = pv.PolyData(segs[pick].reshape(-1, 3), lines=lines)
-            poly.point_data["radius"] = radius
-            tube = poly.tube(scalars="radius", absolute=True, n_sides=10, capping=True)
-            # mostly ambient light: the palette colours stay recognisable, with a little shading for depth
-            plotter.add_mesh(tube, color=_rgb(ROLE_STYLE[role][0]), smooth_shading=True, ambient=0.55, diffuse=0.5, specular=0.0)
+        for mesh, colour, width in _tubes(segs, roles, sizes, extent, largest):
+            if width is None:
+                # mostly ambient light: the palette colours stay recognisable, with a little shading for depth
+                plotter.add_mesh(mesh, color=_rgb(colour), smooth_shading=True, ambient=0.55, diffuse=0.5, specular=0.0)
+            else:
+                plotter.add_mesh(mesh, color=_rgb(colour), line_width=width, lighting=False)
         if labels:
             plotter.add_point_labels(np.array([p for p, _ in labels]), [t for _, t in labels], font_size=15,
                                      text_color=palette.LABEL, shape=None, show_points=False, always_visible=True)
-        rel = pts - centre
-        half_w = float(np.abs(rel @ basis[0]).max(initial=0.0))
-        half_h = float(np.abs(rel @ basis[1]).max(initial=0.0))
-        aspect = size[0] / size[1]
-        scale = max(half_h, half_w / aspect, 1e-9 * extent) * 1.22
-        camera = plotter.camera
-        camera.focal_point = tuple(centre)
-        camera.position = tuple(centre + d * 3 * extent)
-        camera.up = tuple(basis[1])
         plotter.enable_parallel_projection()
-        camera.parallel_scale = scale
-        plotter.reset_camera_clipping_range()
-        image = plotter.screenshot(return_img=True)
+        rel = pts - centre
+        aspect = size[0] / size[1]
+        for view in views:
+            direction = NAMED_DIRECTIONS[view] if isinstance(view, str) else tuple(view)
+            basis = plane_basis(direction, 2)
+            d = np.asarray(direction, float) / np.linalg.norm(direction)
+            half_w = float(np.abs(rel @ basis[0]).max(initial=0.0))
+            half_h = float(np.abs(rel @ basis[1]).max(initial=0.0))
+            scale = max(half_h, half_w / aspect, 1e-9 * extent) * 1.22
+            camera = plotter.camera
+            camera.focal_point = tuple(centre)
+            camera.position = tuple(centre + d * 3 * extent)
+            camera.up = tuple(basis[1])
+            camera.parallel_scale = scale
+            plotter.reset_camera_clipping_range()
+            plotter.render()  # a no-op before the first screenshot, which renders; needed for every later view
+            rendered.append((np.asarray(plotter.screenshot(return_img=True)), size[1] / (2 * scale)))
     finally:
         plotter.close()
-    return np.asarray(image), size[1] / (2 * scale)
+    return rendered
+
+
+def render_view(diagram: ForceDiagram, which: str, view, size=(640, 520)) -> tuple[np.ndarray, float]:
+    """One orthographic render: (image (h, w, 3) uint8, pixels per drawing unit: m for form, N for force)."""
+    return render_views(diagram, which, [view], size)[0]
 
 
 def view_png(diagram: ForceDiagram, which: str, view, path: str | Path) -> Path:
@@ -184,9 +228,13 @@ def views_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None
     fig = Figure(figsize=(2.6 * cols + 0.4, 2.35 * len(rows) + 1.0))
     top, bottom = 0.9, 0.16
     height = (top - bottom) / len(rows)
+    lines = []  # rows drawn as lines (more than TUBES_UP_TO segments)
     for i, which in enumerate(rows):
-        for j, view in enumerate(views):
-            image, per_unit = render_view(diagram, which, view, size)
+        scene = _scene(diagram, which)
+        if len(scene[0]) > TUBES_UP_TO:
+            lines.append(which)
+        rendered = render_views(diagram, which, views, size, scene)
+        for j, (view, (image, per_unit)) in enumerate(zip(views, rendered)):
             ax = fig.add_axes((j / cols + 0.005, top - (i + 1) * height + 0.01, 1 / cols - 0.01, height - 0.03))
             ax.imshow(image, interpolation="antialiased")
             ax.set_axis_off()
@@ -200,8 +248,10 @@ def views_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None
                  fontsize=FONT + 2.5, y=0.985)
     handles = role_handles(diagram)
     handles = [h for h in handles if not h.get_label().startswith(("crossing", "edge passing", "width"))]
+    drawn = "tube radius" if not lines else (f"line width (diagrams of more than {TUBES_UP_TO} edges are drawn as "
+                                             "lines)" if len(lines) == len(rows) else f"tube radius ({', '.join(lines)}: line width)")
     fig.legend(handles=handles, loc="lower center", ncol=min(len(handles), 4), fontsize=FONT, frameon=False,
-               bbox_to_anchor=(0.5, 0.0), title="tube radius proportional to |force|; orthographic views, "
+               bbox_to_anchor=(0.5, 0.0), title=f"{drawn} proportional to |force|; orthographic views, "
                "scale bars true for lengths parallel to each view", title_fontsize=FONT)
     return save_figure(fig, path, fmt or "png", dpi=150)
 

@@ -170,6 +170,7 @@ def _build(r: _Reader, data: dict) -> Project | None:
     _check_geometry(r, node_ids, coords, members)
     fixed = _supports(r, data, node_index, dim)
     cases = _cases(r, data, node_index, dim, units)
+    _check_self_weight(r, cases, members, sections, materials)
     prestress = _prestress(r, data, units, {m[0] for m in members})
     combinations = _combinations(r, data, {c.id for c in cases} | ({prestress.id} if prestress else set()))
     options = _options(r, data)
@@ -501,6 +502,24 @@ def _cases(r: _Reader, data: dict, node_index: dict, dim: int, units: DisplayUni
             add(nid, vector, w + ("loads", nid))
         out.append(LoadCase(cid, r.text(table, "title", w, cid), frozen_array(loads), self_weight))
     return out
+
+
+def _check_self_weight(r: _Reader, cases: list[LoadCase], members, sections: dict, materials: dict):
+    """Self-weight (rho g A L) needs every member's area and its material's density: say so here, with the line."""
+    weighed = [c.id for c in cases if c.self_weight]
+    if not weighed:
+        return
+    lacking = []
+    for mid, _a, _b, sid, *_ in members:
+        section = sections.get(sid)
+        material = materials.get(section.material) if section is not None and section.material else None
+        if section is None or section.area is None or material is None or material.density is None:
+            lacking.append(mid)
+    if lacking:
+        shown = ", ".join(lacking[:10]) + (f" and {len(lacking) - 10} more" if len(lacking) > 10 else "")
+        for cid in weighed:
+            r.problem(("cases", cid, "self_weight"), f"self-weight needs an area and a material density for members {shown}",
+                      "give their sections an area and a material, and the material a density, or set self_weight = false")
 
 
 def _combinations(r: _Reader, data: dict, state_ids: set[str]) -> list[Combination]:

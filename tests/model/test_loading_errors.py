@@ -321,3 +321,43 @@ def test_all_problems_in_one_pass(tmp_path):
 def test_problem_text_names_file_line_key_and_hint():
     p = Problem("frame.toml", "members.B7.ends", "member 'B7' names an unknown node 'N9'", "did you mean 'N8'?", 12)
     assert str(p) == "frame.toml:12: [members.B7.ends] member 'B7' names an unknown node 'N9' -> did you mean 'N8'?"
+
+
+def test_self_weight_without_area_or_density_is_reported_at_its_line(tmp_path):
+    """Self-weight rho g A L needs A and rho for every member: the loader names the case's line."""
+    from sheets.errors import ProjectError
+    from sheets.model import load_project
+
+    text = """[project]
+title = "no density"
+[materials.M]
+elastic_modulus = "200 GPa"
+[sections.S]
+material = "M"
+area = 1000
+[member_defaults]
+section = "S"
+[nodes]
+A = [0, 0]
+B = [4, 0]
+C = [2, 3]
+[members]
+AB = ["A", "B"]
+BC = ["B", "C"]
+CA = ["C", "A"]
+[supports]
+A = "xy"
+B = "y"
+[cases.G]
+self_weight = true
+"""
+    path = tmp_path / "p.toml"
+    path.write_text(text)
+    try:
+        load_project(path)
+    except ProjectError as exc:
+        (p,) = [q for q in exc.problems if q.where == "cases.G.self_weight"]
+        assert p.line == text.splitlines().index("self_weight = true") + 1
+        assert "AB, BC, CA" in p.message and "density" in p.hint
+    else:
+        raise AssertionError("a self-weight case without densities was accepted")

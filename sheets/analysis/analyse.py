@@ -67,11 +67,11 @@ def self_weight_loads(project: Project, case: LoadCase) -> np.ndarray:
     lengths = project.lengths()
     for e, sid in enumerate(project.member_sections):
         section = project.sections.get(sid)
-        material = project.materials.get(section.material) if section and section.material else None
-        if section is None or section.area is None or material is None or material.density is None:
+        rho_a = section.mass_per_length(project.materials) if section is not None else None
+        if rho_a is None:
             problems.append(project.member_ids[e])
             continue
-        weights[e] = material.density * STANDARD_GRAVITY * section.area * lengths[e]
+        weights[e] = rho_a * STANDARD_GRAVITY * lengths[e]
     if problems:
         shown = ", ".join(problems[:10]) + (" ..." if len(problems) > 10 else "")
         raise ProjectError([Problem(project.source, f"cases.{case.id}.self_weight",

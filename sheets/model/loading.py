@@ -512,8 +512,7 @@ def _check_self_weight(r: _Reader, cases: list[LoadCase], members, sections: dic
     lacking = []
     for mid, _a, _b, sid, *_ in members:
         section = sections.get(sid)
-        material = materials.get(section.material) if section is not None and section.material else None
-        if section is None or section.area is None or material is None or material.density is None:
+        if section is None or section.mass_per_length(materials) is None:
             lacking.append(mid)
     if lacking:
         shown = ", ".join(lacking[:10]) + (f" and {len(lacking) - 10} more" if len(lacking) > 10 else "")

@@ -71,6 +71,13 @@ class Section:
             return self.area * materials[self.material].elastic_modulus
         return None
 
+    def mass_per_length(self, materials: Mapping[str, Material]) -> float | None:
+        """rho A (kg/m), for self-weight; None where the area or the material's density is not given."""
+        material = materials.get(self.material) if self.material else None
+        if self.area is None or material is None or material.density is None:
+            return None
+        return material.density * self.area
+
 
 @dataclass(frozen=True)
 class LoadCase:

@@ -43,11 +43,14 @@ def _attempt(what: str, build, problems: list[str]):
         return None
 
 
-def state_diagrams(analysis: Analysis, state_id: str, complex_: CellComplex | None = None) -> StateDiagrams:
+def state_diagrams(analysis: Analysis, state_id: str, complex_: CellComplex | None = None,
+                   force: ForceDiagram | None = None) -> StateDiagrams:
+    """``force``: the state's force diagram where the caller has already built it."""
     project = analysis.project
     state = analysis.state(state_id)
     problems: list[str] = []
-    force = _attempt("force diagram", lambda: force_diagram(project, state), problems)
+    if force is None:
+        force = _attempt("force diagram", lambda: force_diagram(project, state), problems)
     cells = _attempt("force cells", lambda: node_cells(analysis, state_id), problems)
     polar = None
     if project.dim == 3 and (project.polyhedral.cells or project.polyhedral.find_tetrahedra):

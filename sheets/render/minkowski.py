@@ -147,7 +147,7 @@ def _figure_3d(analysis, view: MinkowskiView, path: Path) -> Path:
 
 
 def polyhedral_outputs(analysis, state_id: str, out_dir, stem: str, fmt: str = "png", cells: bool = True,
-                       minkowski: bool = True, meshes: bool = False) -> list[Path]:
+                       minkowski: bool = True, meshes: bool = False, prepared=None) -> list[Path]:
     """Every figure (and on request mesh file) of issue 4 for one state; returns the paths written.
 
     ``<stem>-cells`` and ``<stem>-cells-gallery`` (node cells), ``<stem>-polar`` (3D, where the
@@ -156,30 +156,31 @@ def polyhedral_outputs(analysis, state_id: str, out_dir, stem: str, fmt: str = "
     ``<stem>-minkowski.obj/.vtp`` (3D).
     """
     from sheets.export.meshes import cells_mesh, pieces_mesh, write_mesh
-    from sheets.reciprocal.polarity import project_polarity
+    from sheets.reciprocal.stage import state_diagrams
     from sheets.render.cells3d import cell_gallery_figure, node_cells_figure, polar_diagram_figure
 
     out = Path(out_dir)
     project = analysis.project
     suffix = "png" if project.dim == 3 else fmt
-    node_set = node_cells(analysis, state_id)
-    polar = project_polarity(analysis, state_id) if project.dim == 3 else None
-    usable = polar.diagram if polar is not None and polar.usable else None
-    matching = polar.diagram if polar is not None and polar.matches_state else None  # Minkowski view of this state
+    # ``prepared``: the state's diagrams (sheets.reciprocal.stage) where the caller built them
+    prepared = prepared or state_diagrams(analysis, state_id)
+    if prepared.cells is None:
+        raise ValueError(f"no force cells for state '{state_id}': {'; '.join(prepared.problems)}")
+    node_set = prepared.cells
+    polar = prepared.polar
+    usable = polar.diagram if prepared.polar_usable else None
     files: list[Path] = []
     if cells:
         files.append(node_cells_figure(analysis, state_id, out / f"{stem}-cells.{suffix}", node_set))
         files.append(cell_gallery_figure(analysis, state_id, out / f"{stem}-cells-gallery.{suffix}", cells=node_set))
         if usable is not None:
             files.append(polar_diagram_figure(analysis, state_id, out / f"{stem}-polar.png", polar))
-    view = None
+    view = prepared.minkowski
     if minkowski:
-        view = minkowski_view(analysis, node_set, polar=matching) if project.dim == 3 else default_view(analysis, state_id)
         files.append(minkowski_figure(analysis, state_id, out / f"{stem}-minkowski.{suffix}", view))
     if meshes and project.dim == 3:
         mesh = cells_mesh(node_set)
         files += [write_mesh(mesh, out / f"{stem}-cells.obj"), write_mesh(mesh, out / f"{stem}-cells.vtp")]
-        view = view or minkowski_view(analysis, node_set, polar=matching)
         pieces = pieces_mesh(view)
         files += [write_mesh(pieces, out / f"{stem}-minkowski.obj"), write_mesh(pieces, out / f"{stem}-minkowski.vtp")]
     return files

@@ -47,8 +47,8 @@ class DesignOutcome:
         return bool(self.over_utilised or self.cables_in_compression or self.struts_in_tension or self.uplift
                     or self.deflection_over_limit)
 
-    def sentences(self, force_unit: str = "N", force_factor: float = 1.0, shown: int = 8) -> list[str]:
-        """The outcome in plain sentences, the flags first; ``shown`` ids at most per sentence."""
+    def findings(self, force_unit: str = "N", force_factor: float = 1.0, shown: int = 8) -> list[tuple[str, bool]]:
+        """The outcome in plain sentences, each with True where it is a flag; ``shown`` ids at most per sentence."""
 
         def ids(items) -> str:
             names = [getattr(i, "id", i) for i in items]
@@ -58,27 +58,31 @@ class DesignOutcome:
             return f"worst {s.id}, {s.value / force_factor:.4g} {force_unit} in {s.state}"
 
         out = []
+        if not self.flagged:
+            out.append(("No member over a utilisation of 1, no cable in compression or strut in tension, "
+                        "no uplift at the supports.", False))
         if self.over_utilised:
-            out.append(f"{len(self.over_utilised)} member{'s' if len(self.over_utilised) != 1 else ''} over a utilisation "
-                       f"of 1: {ids(self.over_utilised)}.")
+            out.append((f"{len(self.over_utilised)} member{'s' if len(self.over_utilised) != 1 else ''} over a utilisation "
+                        f"of 1: {ids(self.over_utilised)}.", True))
         if self.governing is not None:
             member, u, check, state = self.governing
-            out.append(f"Governing member {member}: utilisation {u:.3f} ({check.replace('_', ' ')}, state {state or '-'}).")
+            out.append((f"Governing member {member}: utilisation {u:.3f} ({check.replace('_', ' ')}, state {state or '-'}).",
+                        u > 1.0))
         else:
-            out.append("No member check was made (see Member checks): the members are not verified.")
+            out.append(("No member check was made (see Member checks): the members are not verified.", False))
         if self.cables_in_compression:
-            out.append(f"Cables in compression: {ids(self.cables_in_compression)} ({worst(self.cables_in_compression[0])}).")
+            out.append((f"Cables in compression: {ids(self.cables_in_compression)} ({worst(self.cables_in_compression[0])}).", True))
         if self.struts_in_tension:
-            out.append(f"Struts in tension: {ids(self.struts_in_tension)} ({worst(self.struts_in_tension[0])}).")
+            out.append((f"Struts in tension: {ids(self.struts_in_tension)} ({worst(self.struts_in_tension[0])}).", True))
         if self.uplift:
-            out.append(f"Uplift at supports {ids(self.uplift)}: the support must hold the frame down "
-                       f"({worst(self.uplift[0])}).")
+            out.append((f"Uplift at supports {ids(self.uplift)}: the support must hold the frame down "
+                        f"({worst(self.uplift[0])}).", True))
         if self.deflection_over_limit:
-            out.append(f"Deflection over the limit in {ids(self.deflection_over_limit)}.")
-        if not self.flagged:
-            out.insert(0, "No member over a utilisation of 1, no cable in compression or strut in tension, "
-                          "no uplift at the supports.")
+            out.append((f"Deflection over the limit in {ids(self.deflection_over_limit)}.", True))
         return out
+
+    def sentences(self, force_unit: str = "N", force_factor: float = 1.0, shown: int = 8) -> list[str]:
+        return [text for text, _ in self.findings(force_unit, force_factor, shown)]
 
 
 def _sightings(rows: np.ndarray, table: np.ndarray, states, names, sign: float) -> tuple[Sighting, ...]:

@@ -34,6 +34,8 @@ from typing import Mapping
 import numpy as np
 
 from sheets.analysis.analyse import Analysis, make_envelope
+from sheets.analysis.buckling import imperfection_factor, reduction_factor, relative_slenderness
+from sheets.analysis.design_states import design_states
 from sheets.model.project import DesignOptions
 
 CHECKS = ("tension", "compression", "slenderness", "tension_slenderness")
@@ -206,9 +208,6 @@ def _axis_second_moments(analysis: Analysis, inertia: np.ndarray) -> tuple[np.nd
 
 
 def member_checks(analysis: Analysis) -> MemberChecks:
-    from sheets.analysis.buckling import imperfection_factor, reduction_factor, relative_slenderness
-    from sheets.analysis.design_states import design_states
-
     p = analysis.project
     d = p.design
     m = p.n_members

@@ -20,6 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from sheets.analysis.design_states import design_states
 from sheets.analysis.member_checks import FORCE_EPS, MemberChecks
 
 
@@ -95,8 +96,7 @@ def _sightings(rows: np.ndarray, table: np.ndarray, states, names, sign: float) 
 
 
 def design_outcome(analysis, checks: MemberChecks, service=None) -> DesignOutcome:
-    from sheets.analysis.design_states import design_states
-
+    """The outcome of ``checks`` (sheets.analysis.member_checks) and ``service`` (sheets.analysis.serviceability)."""
     p = analysis.project
     states = design_states(analysis).checked
     roles = np.array(p.member_roles)

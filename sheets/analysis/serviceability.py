@@ -22,6 +22,7 @@ import numpy as np
 from scipy.spatial import ConvexHull, QhullError
 from scipy.spatial.distance import pdist, squareform
 
+from sheets.analysis.design_states import design_states
 from sheets.export.results import _num
 from sheets.model.project import AXES
 
@@ -103,8 +104,6 @@ def state_displacements(project, state, span: float | None, limit: float | None)
 
 
 def serviceability(analysis) -> Serviceability:
-    from sheets.analysis.design_states import design_states
-
     project = analysis.project
     span, ends = support_span(project)
     limit = project.design.deflection_limit

@@ -27,6 +27,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from sheets.analysis.analyse import make_envelope
+from sheets.analysis.design_states import design_states
 from sheets.export.results import _num
 
 
@@ -127,9 +129,6 @@ def state_volumes(analysis, state, sigma: float) -> StateVolumes:
 
 def size_members(analysis) -> Sizing:
     """Constant-stress sizing from ``project.design.stress_limit`` over the strength states."""
-    from sheets.analysis.analyse import make_envelope
-    from sheets.analysis.design_states import design_states
-
     project = analysis.project
     env = make_envelope(project, design_states(analysis).strength)
     lengths = np.asarray(analysis.equilibrium.lengths)

@@ -145,6 +145,7 @@ def cover(sheet: SheetSet, st: Styles) -> list:
         ("Stability", det.classification),
         ("Verification of the solutions", passed),
         ("Indicative member checks", util),
+        ("Serviceability", _serviceability_summary(sheet)),
     ]
     out.append(Paragraph("Summary", st.h2))
     out.append(key_value(st, summary, sheet.width))
@@ -164,6 +165,27 @@ def cover(sheet: SheetSet, st: Styles) -> list:
                                  ("TOPPADDING", (0, 0), (-1, -1), 0), ("BOTTOMPADDING", (0, 0), (-1, -1), 0)])
     out.append(toc)
     return out
+
+
+def _serviceability_summary(sheet: SheetSet) -> str:
+    """One line per serviceability combination: the largest deflection, span / deflection and the limit check."""
+    s = sheet.serviceability
+    if not s.states:
+        return s.note
+    unit = sheet.project.units
+    parts = []
+    for x in s.states:
+        if not x.available:
+            parts.append(f"{x.state}: no displacements")
+            continue
+        text = f"{x.state}: largest deflection {fmt(x.deflection / unit.factor('displacement'), 'displacement')} " \
+               f"{ulabel(unit, 'displacement')} at {x.deflection_node}"
+        if x.ratio is not None:
+            text += f", span / {x.ratio:,.0f}"
+        if x.passed is not None:
+            text += f" ({'pass' if x.passed else 'FAIL'} against span / {s.limit:g})"
+        parts.append(text)
+    return "; ".join(parts)
 
 
 def outcome_block(sheet: SheetSet, st: Styles) -> list:

@@ -241,10 +241,15 @@ def member_checks(analysis: Analysis) -> MemberChecks:
             ok &= ~bad
         return ok
 
+    # compression takes gamma_b = buckling_partial_factor with the buckling curve method, where given
+    alpha = imperfection_factor(d) if d.compression_method == "buckling_curve" else None
+    gamma = d.partial_factor if alpha is None or d.buckling_partial_factor is None else d.buckling_partial_factor
+
     # tension
     t_res = nan.copy()
     if d.partial_factor is None:
-        omitted.append("Tension and compression resistance: the project gives no partial_factor in [design].")
+        what = "Tension and compression resistance" if gamma is None else "Tension resistance"
+        omitted.append(f"{what}: the project gives no partial_factor in [design].")
     else:
         ok = missing(in_tension, {"area": area, "yield strength": fy}, "tension")
         t_res[ok] = area[ok] * fy[ok] / d.partial_factor
@@ -255,8 +260,6 @@ def member_checks(analysis: Analysis) -> MemberChecks:
     len_in, len_out = buckling_lengths(p, lengths)
     n_cr, n_in, n_out, c_res, lam, chi = (nan.copy() for _ in range(6))
     axis = [""] * m
-    alpha = imperfection_factor(d) if d.compression_method == "buckling_curve" else None
-    gamma = d.partial_factor if alpha is None or d.buckling_partial_factor is None else d.buckling_partial_factor
     has_length = np.isfinite(len_in) & np.isfinite(len_out)
     if not (np.isfinite(len_in) | np.isfinite(len_out)).any():
         omitted.append("Buckling and the slenderness of compression members: the project gives no "

@@ -42,7 +42,7 @@ CHECKS = ("tension", "compression", "slenderness", "tension_slenderness")
 CHECK_TITLES = {
     "tension": "tension resistance",
     "compression": "compression resistance (squash and Euler buckling)",
-    "slenderness": "slenderness K L/r of compression members",
+    "slenderness": "slenderness L_b/r of compression members",
     "tension_slenderness": "slenderness L/r of tension members",
 }
 FORCE_EPS = 1e-9  # |t| below this x the largest force counts as no force

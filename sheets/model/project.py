@@ -148,7 +148,7 @@ class DesignOptions:
 
     partial_factor: float | None = None  # gamma on resistance
     effective_length_factor: float | None = None  # K for Euler buckling
-    slenderness_limit: float | None = None  # KL/r limit for compression members
+    slenderness_limit: float | None = None  # L_b/r limit for compression members (L_b = K L or as given)
     tension_slenderness_limit: float | None = None  # L/r limit for tension members
     stress_limit: float | None = None  # Pa, for constant-stress sizing
     # compression: "euler" (min(A f_y, N_cr) / gamma) or "buckling_curve" (chi A f_y / gamma_b)

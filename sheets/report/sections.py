@@ -291,7 +291,7 @@ def design_basis(sheet: SheetSet, st: Styles) -> list:
     out.append(key_value(st, [
         ("Partial factor on resistance, gamma", given(d.partial_factor)),
         ("Effective length factor, K", given(d.effective_length_factor)),
-        ("Slenderness limit for compression members, K L / r", given(d.slenderness_limit)),
+        ("Slenderness limit for compression members, L_b / r", given(d.slenderness_limit)),
         ("Slenderness limit for tension members, L / r", given(d.tension_slenderness_limit)),
         ("Stress limit for constant-stress sizing", "not given: sizing is left out" if d.stress_limit is None
          else f"{fmt(d.stress_limit / u.factor('stress'), 'stress')} {ulabel(u, 'stress')}"),
@@ -651,7 +651,7 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
     order = [e for e in order if g[e] >= 0][:rows_max]
     out.append(Paragraph("Members with the largest utilisation" if len(order) < p.n_members else "Every member", st.h2))
     header = ["Member", "Section", f"Max T [{_force_unit(p)}]", f"Max C [{_force_unit(p)}]", f"A f_y/γ [{_force_unit(p)}]",
-              f"N_cr [{_force_unit(p)}]", f"N_c,Rd [{_force_unit(p)}]", "K L/r or L/r", "u tension", "u comp.", "u slender", "Governs"]
+              f"N_cr [{_force_unit(p)}]", f"N_c,Rd [{_force_unit(p)}]", "L_b/r or L/r", "u tension", "u comp.", "u slender", "Governs"]
     rows = []
     for e in order:
         slender = c.slenderness[e] if not np.isnan(c.slenderness[e]) else c.tension_slenderness[e]
@@ -661,7 +661,7 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
                      fmt(c.euler_load[e] / f, "force"), fmt(c.compression_resistance[e] / f, "force"),
                      fmt(slender, "slenderness"), fmt(c.utilisation["tension"][e], "ratio"),
                      fmt(c.utilisation["compression"][e], "ratio"), fmt(u_sl if u_sl >= 0 else None, "ratio"),
-                     f"{fmt(c.governing[e], 'ratio')} {c.governing_check[e].replace('tension_slenderness', 'L/r').replace('slenderness', 'KL/r')}"])
+                     f"{fmt(c.governing[e], 'ratio')} {c.governing_check[e].replace('tension_slenderness', 'L/r').replace('slenderness', 'L_b/r')}"])
     hi = [i for i, e in enumerate(order) if c.governing[e] > 1]
     shares = [7, 8, 7.5, 7.5, 7.5, 7.5, 7.5, 6.5, 6.5, 6.5, 6.5, 21]
     out.append(table(st, header, rows, numeric=set(range(2, 11)), widths=[w * x / sum(shares) for x in shares], highlight=hi))

@@ -186,3 +186,15 @@ def test_span_is_the_largest_horizontal_distance_between_supports(tmp_path):
     """
     span, ends = support_span(_project(tmp_path, frame=textwrap.dedent(text)))
     assert span == pytest.approx(5.0) and set(ends) in ({"A", "C"}, {"B", "D"})
+
+
+def test_a_combination_with_prestress_has_the_displacements_of_its_load_cases():
+    """The geometry given is the prestressed one: the prestress adds no displacement (invented demo, HP = H + PS)."""
+    from pathlib import Path
+
+    demo = Path(__file__).resolve().parents[2] / "demo_projects" / "gallery_node" / "gallery_node.toml"
+    analysis = analyse(load_project(demo))
+    hp, h = analysis.state("HP"), analysis.state("H")
+    assert analysis.state("PS").displacements is None
+    assert hp.displacements is not None
+    np.testing.assert_allclose(hp.displacements, h.displacements, rtol=0, atol=1e-15)

@@ -47,18 +47,33 @@ def result_sections(analysis: Analysis, checks=None, sizing=None, diagrams=None)
     """Sections later stages add to the results document: member checks, sizing, and the
     diagrams of the drawn states where the caller built them (values made once, passed in)."""
     from sheets.analysis.member_checks import member_checks, member_checks_results
+    from sheets.analysis.outcome import design_outcome, outcome_results
+    from sheets.analysis.serviceability import serviceability, serviceability_results
     from sheets.analysis.sizing import size_members, sizing_results
 
     project = analysis.project
+    checks = checks or member_checks(analysis)
+    service = serviceability(analysis)
     sections = {
-        "member_checks": member_checks_results(checks or member_checks(analysis), project),
+        "member_checks": member_checks_results(checks, project),
         "sizing": sizing_results(sizing or size_members(analysis), project.units),
+        "serviceability": serviceability_results(service, project.units),
+        "outcome": outcome_results(design_outcome(analysis, checks, service), project.units),
     }
     if diagrams:
         from sheets.reciprocal.stage import diagrams_results
 
         sections["diagrams"] = diagrams_results(analysis, diagrams, detail=project.n_nodes <= DIAGRAM_DETAIL_NODES)
     return sections
+
+
+def design_outcome_of(analysis: Analysis, checks=None):
+    """The design outcome (sheets.analysis.outcome) of an analysis: member checks and serviceability made here if not given."""
+    from sheets.analysis.member_checks import member_checks
+    from sheets.analysis.outcome import design_outcome
+    from sheets.analysis.serviceability import serviceability
+
+    return design_outcome(analysis, checks or member_checks(analysis), serviceability(analysis))
 
 
 def write_results(analysis: Analysis, json_path: str | Path | None = None, csv_dir: str | Path | None = None,
@@ -91,6 +106,8 @@ class SheetBuild:
     pdf: Path
     files: tuple[Path, ...]  # everything written, the PDF last
     passed: bool  # every verification check passed
+    outcome: Any = None  # the design outcome (sheets.analysis.outcome.DesignOutcome)
+    outcome_units: Any = None  # the project's display units, to print the outcome in
 
 
 def default_out_dir(project_path: str | Path) -> Path:
@@ -128,6 +145,7 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     note("member checks")
     checks = member_checks(analysis)
     sizing = size_members(analysis)
+    outcome = design_outcome_of(analysis, checks)
     note("diagrams")
     diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress)
     note("figures")
@@ -153,7 +171,7 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
         files = _publish(staging, out, pdf_name, project.fingerprint)
     finally:
         shutil.rmtree(staging, ignore_errors=True)
-    return SheetBuild(out / pdf_name, files, analysis.passed)
+    return SheetBuild(out / pdf_name, files, analysis.passed, outcome, project.units)
 
 
 def _publish(staging: Path, out: Path, pdf_name: str, fingerprint: str) -> tuple[Path, ...]:

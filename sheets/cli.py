@@ -1,7 +1,9 @@
 """The `sheets` command: parse arguments, call sheets.build, print readable tables.
 
 Exit codes (DESIGN.md): 0 success, 2 bad input, 3 the frame cannot carry the
-loads (mechanism), 4 a verification check failed.
+loads (mechanism), 4 a verification check failed, 5 the results are written but
+the design outcome has flags (members over utilisation 1, cables in compression,
+struts in tension, uplift at supports, deflection over the limit); 4 wins over 5.
 """
 
 from __future__ import annotations
@@ -17,7 +19,7 @@ from rich.progress import BarColumn, Progress, SpinnerColumn, TextColumn, TimeEl
 from rich.table import Table
 
 from sheets import __version__, build
-from sheets.errors import EXIT_CHECK_FAILED, EXIT_OK, MechanismError, ProjectError
+from sheets.errors import EXIT_CHECK_FAILED, EXIT_DESIGN_FLAGS, EXIT_OK, MechanismError, ProjectError
 
 TOP_N = 25  # rows shown per table on screen; the CSV files carry all of them
 
@@ -178,12 +180,22 @@ def _solve(args) -> int:
             if p.fixed.any():
                 out.print(_reactions_table(analysis, state))
     out.print(_checks_table(analysis))
+    outcome = build.design_outcome_of(analysis)
+    _print_outcome(outcome, p.units)
     for path in written:
         out.print(f"wrote {path}")
     if not analysis.passed:
         err.print("[red]A verification check failed: the results are written but must not be used as they stand.[/red]")
         return EXIT_CHECK_FAILED
-    return EXIT_OK
+    return EXIT_DESIGN_FLAGS if outcome.flagged else EXIT_OK
+
+
+def _print_outcome(outcome, units) -> None:
+    """The design outcome, flags first (the same sentences as the cover of the sheets)."""
+    title = "[bold red]Design outcome: flagged[/bold red]" if outcome.flagged else "[bold]Design outcome[/bold]"
+    out.print(title)
+    for sentence in outcome.sentences(units.label("force"), units.factor("force")):
+        out.print(f"  {sentence}", markup=False)
 
 
 def _build(args) -> int:
@@ -201,10 +213,12 @@ def _build(args) -> int:
         bar.update(task, completed=len(stages))
     out.print(f"wrote {result.pdf}")
     out.print(f"  and {len(result.files) - 1} more files beside it (results.json, csv/, figures/, manifest.json)")
+    if result.outcome is not None:
+        _print_outcome(result.outcome, result.outcome_units)
     if not result.passed:
         err.print("[red]A verification check failed: the sheets say so and must not be used as they stand.[/red]")
         return EXIT_CHECK_FAILED
-    return EXIT_OK
+    return EXIT_DESIGN_FLAGS if result.outcome is not None and result.outcome.flagged else EXIT_OK
 
 
 def _draw(args) -> int:

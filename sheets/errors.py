@@ -12,6 +12,9 @@ EXIT_OK = 0
 EXIT_BAD_INPUT = 2
 EXIT_MECHANISM = 3
 EXIT_CHECK_FAILED = 4
+# the results are written; the design outcome has flags (members over utilisation 1, cables in
+# compression, struts in tension, uplift at supports, deflection over the limit). 4 wins over 5.
+EXIT_DESIGN_FLAGS = 5
 
 
 @dataclass(frozen=True)

@@ -168,8 +168,11 @@ def analyse(project: Project, progress: Progress | None = None) -> Analysis:
         parts = [(by_id[cid], f) for cid, f in combo.factors]
         loads = sum((f * s.loads for s, f in parts), np.zeros((project.n_nodes, project.dim)))
         forces = sum((f * s.forces for s, f in parts), np.zeros(project.n_members))
-        has_d = all(s.displacements is not None for s, _ in parts)
-        d_free = sum(f * s.displacements.reshape(-1)[eq.free] for s, f in parts) if has_d and parts else None
+        # The geometry given is the prestressed one: the prestress state adds no displacement to it.
+        moving = [(s, f) for s, f in parts if s.kind != "prestress"]
+        has_d = all(s.displacements is not None for s, _ in moving) and solver.has_stiffness
+        d_free = (sum((f * s.displacements.reshape(-1)[eq.free] for s, f in moving), np.zeros(int(eq.free.sum())))
+                  if has_d and parts else None)
         combos.append(_state(project, eq, "combination", combo.id, combo.title, loads, forces, d_free,
                              "combination",
                              combo.factors))

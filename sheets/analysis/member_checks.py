@@ -5,15 +5,20 @@ Code-neutral and indicative only. Every factor comes from the project's
 it, and ``omitted`` says so. Nothing here is a built-in code value.
 
 - tension:      t <= A f_y / gamma
-- compression:  |t| <= min(A f_y, N_cr) / gamma,  N_cr = pi^2 E I / (K L)^2
+- compression:  |t| <= min(A f_y, N_cr) / gamma,  N_cr = pi^2 E I / L_b^2
   (Euler's critical load of a pin-ended strut, Euler 1744, with the
-  effective length K L);
-- slenderness:  K L / r against ``slenderness_limit`` for members that see
-  compression, L / r against ``tension_slenderness_limit`` for members that see
-  only tension, with r = sqrt(I / A).
+  buckling length L_b = K L), or with ``compression_method = "buckling_curve"``
+  |t| <= chi A f_y / gamma (sheets.analysis.buckling). N_cr is taken about
+  both buckling axes (in plane and out of plane: each its own L_b and I) and
+  the lower governs; K per member or group, or a buckling length per axis,
+  may replace the one K of [design];
+- slenderness:  L_b / r (the larger over the axes) against ``slenderness_limit``
+  for members that see compression, L / r against ``tension_slenderness_limit``
+  for members that see only tension, with r = sqrt(I / A).
 
-Demands are the largest tension and compression of each member over every
-state (load cases, prestress and combinations). Cables take no compression and
+Demands are the largest tension and compression of each member over the
+strength states (sheets.analysis.design_states: the combinations tagged
+"strength", else every state but the serviceability ones). Cables take no compression and
 have no bending stiffness: they get the tension check only, and a cable that
 goes into compression (or a strut into tension) is reported as a role conflict.
 """
@@ -29,13 +34,15 @@ from typing import Mapping
 import numpy as np
 
 from sheets.analysis.analyse import Analysis, make_envelope
+from sheets.analysis.buckling import imperfection_factor, reduction_factor, relative_slenderness
+from sheets.analysis.design_states import design_states
 from sheets.model.project import DesignOptions
 
 CHECKS = ("tension", "compression", "slenderness", "tension_slenderness")
 CHECK_TITLES = {
     "tension": "tension resistance",
     "compression": "compression resistance (squash and Euler buckling)",
-    "slenderness": "slenderness K L/r of compression members",
+    "slenderness": "slenderness L_b/r of compression members",
     "tension_slenderness": "slenderness L/r of tension members",
 }
 FORCE_EPS = 1e-9  # |t| below this x the largest force counts as no force
@@ -66,6 +73,26 @@ class MemberChecks:
     utilisation: Mapping[str, np.ndarray]  # check name -> (m,) demand / capacity, NaN where not made
     unchecked: tuple[tuple[int, str], ...]  # (member index, why a check it needs could not be made)
     role_conflicts: tuple[tuple[int, str], ...]  # (member index, what is wrong)
+    basis: str = ""  # which states the demands come from, in words (sheets.analysis.design_states)
+    buckling_length_in_plane: np.ndarray | None = None  # (m,) m, K L or the length the project gives
+    buckling_length_out_of_plane: np.ndarray | None = None  # (m,) m
+    euler_load_in_plane: np.ndarray | None = None  # (m,) N
+    euler_load_out_of_plane: np.ndarray | None = None  # (m,) N
+    buckling_axis: tuple[str, ...] = ()  # the axis with the lower critical load: "in plane", "out of plane", ...
+    relative_slenderness: np.ndarray | None = None  # (m,) sqrt(A f_y / N_cr), buckling curve method only
+    reduction_factor: np.ndarray | None = None  # (m,) chi, buckling curve method only
+    imperfection_factor: float | None = None  # alpha, where the buckling curve method is used
+    compression_partial_factor: float | None = None  # gamma on the compression resistance
+
+    @property
+    def compression_method(self) -> str:
+        return "buckling_curve" if self.imperfection_factor is not None else "euler"
+
+    def title(self, check: str) -> str:
+        """The check's title as made here (the compression title names the method used)."""
+        if check == "compression" and self.compression_method == "buckling_curve":
+            return "compression resistance (buckling curve)"
+        return CHECK_TITLES[check]
 
     @cached_property
     def governing(self) -> np.ndarray:
@@ -140,12 +167,53 @@ def euler_load(elastic_modulus, second_moment, effective_length):
     return math.pi**2 * np.asarray(elastic_modulus) * np.asarray(second_moment) / np.asarray(effective_length) ** 2
 
 
+def _per_member(project, entries, values: np.ndarray) -> np.ndarray:
+    """Write each (member or group id, value) entry into ``values`` (a copy): a member's own entry wins over its group's."""
+    out = values.copy()
+    index = {mid: e for e, mid in enumerate(project.member_ids)}
+    groups = np.array(project.member_groups)
+    for name, value in sorted(entries, key=lambda entry: entry[0] in index):  # groups first, then members
+        if value is None:
+            continue
+        if name in index:
+            out[index[name]] = value
+        else:
+            out[groups == name] = value
+    return out
+
+
+def buckling_lengths(project, lengths: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """In-plane and out-of-plane buckling lengths per member (m; NaN where the project gives no way to find one).
+
+    K L with K from [design.effective_length_factors] (member, then group) or [design] effective_length_factor;
+    a length given in [design.buckling_lengths] for an axis replaces K L on that axis.
+    """
+    d = project.design
+    k = np.full(project.n_members, np.nan if d.effective_length_factor is None else d.effective_length_factor)
+    k = _per_member(project, d.effective_length_factors, k)
+    in_plane = _per_member(project, [(n, a) for n, a, _ in d.buckling_lengths], k * lengths)
+    out_of_plane = _per_member(project, [(n, b) for n, _, b in d.buckling_lengths], k * lengths)
+    return in_plane, out_of_plane
+
+
+def _axis_second_moments(analysis: Analysis, inertia: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Second moment per buckling axis (m^4): the section's per-axis value where given, else its second_moment."""
+    p = analysis.project
+    both = []
+    for key in ("second_moment_in_plane", "second_moment_out_of_plane"):
+        given = np.array([np.nan if p.sections.get(s) is None or getattr(p.sections[s], key) is None
+                          else getattr(p.sections[s], key) for s in p.member_sections], dtype=float).reshape(-1)
+        both.append(np.where(np.isnan(given), inertia, given))
+    return both[0], both[1]
+
+
 def member_checks(analysis: Analysis) -> MemberChecks:
     p = analysis.project
     d = p.design
     m = p.n_members
     lengths = analysis.equilibrium.lengths
-    env = make_envelope(p, analysis.states)
+    basis = design_states(analysis)
+    env = make_envelope(p, basis.strength)
     tension, compression = env.max_tension, env.max_compression
     scale = max(float(np.abs(tension).max(initial=0.0)), float(np.abs(compression).max(initial=0.0)))
     in_tension = tension > FORCE_EPS * scale
@@ -154,8 +222,10 @@ def member_checks(analysis: Analysis) -> MemberChecks:
     cable = roles == "cable"
 
     area, inertia, fy, modulus = _section_properties(analysis)
+    i_in, i_out = _axis_second_moments(analysis, inertia)
     with np.errstate(invalid="ignore", divide="ignore"):
-        radius = np.sqrt(inertia / area)
+        r_in, r_out = np.sqrt(i_in / area), np.sqrt(i_out / area)
+        radius = np.fmin(r_in, r_out)
     nan = np.full(m, np.nan)
     util = {c: nan.copy() for c in CHECKS}
     omitted: list[str] = []
@@ -171,42 +241,64 @@ def member_checks(analysis: Analysis) -> MemberChecks:
             ok &= ~bad
         return ok
 
+    # compression takes gamma_b = buckling_partial_factor with the buckling curve method, where given
+    alpha = imperfection_factor(d) if d.compression_method == "buckling_curve" else None
+    gamma = d.partial_factor if alpha is None or d.buckling_partial_factor is None else d.buckling_partial_factor
+
     # tension
     t_res = nan.copy()
     if d.partial_factor is None:
-        omitted.append("Tension and compression resistance: the project gives no partial_factor in [design].")
+        what = "Tension and compression resistance" if gamma is None else "Tension resistance"
+        omitted.append(f"{what}: the project gives no partial_factor in [design].")
     else:
         ok = missing(in_tension, {"area": area, "yield strength": fy}, "tension")
         t_res[ok] = area[ok] * fy[ok] / d.partial_factor
         util["tension"][ok] = tension[ok] / t_res[ok]
 
-    # compression (cables cannot take it: a role conflict, below)
-    n_cr = nan.copy()
-    c_res = nan.copy()
+    # compression (cables cannot take it: a role conflict, below), about the weaker buckling axis
     struts = in_compression & ~cable
-    if d.effective_length_factor is None:
-        omitted.append("Euler buckling and the slenderness of compression members: the project gives no "
-                       "effective_length_factor in [design].")
-        if d.partial_factor is not None:
+    len_in, len_out = buckling_lengths(p, lengths)
+    n_cr, n_in, n_out, c_res, lam, chi = (nan.copy() for _ in range(6))
+    axis = [""] * m
+    has_length = np.isfinite(len_in) & np.isfinite(len_out)
+    if not (np.isfinite(len_in) | np.isfinite(len_out)).any():
+        omitted.append("Buckling and the slenderness of compression members: the project gives no "
+                       "effective_length_factor (or buckling lengths) in [design].")
+        if gamma is not None:
             omitted.append("Compression resistance: it needs the Euler load, so also the effective_length_factor.")
     else:
-        ok = missing(struts, {"second moment of area": inertia, "elastic modulus": modulus}, "compression")
-        n_cr[ok] = euler_load(modulus[ok], inertia[ok], d.effective_length_factor * lengths[ok])
-        if d.partial_factor is not None:
+        for e in np.flatnonzero(struts & ~has_length):
+            which = "in-plane" if np.isnan(len_in[e]) else "out-of-plane"
+            unchecked.append((int(e), f"{CHECK_TITLES['compression']}: no effective length factor or {which} buckling length"))
+        ok = missing(struts & has_length, {"second moment of area": i_in, "second moment of area (out of plane)": i_out,
+                                           "elastic modulus": modulus}, "compression")
+        n_in[ok] = euler_load(modulus[ok], i_in[ok], len_in[ok])
+        n_out[ok] = euler_load(modulus[ok], i_out[ok], len_out[ok])
+        n_cr[ok] = np.minimum(n_in[ok], n_out[ok])
+        for e in np.flatnonzero(ok):
+            axis[e] = ("both axes alike" if math.isclose(n_in[e], n_out[e], rel_tol=1e-12)
+                       else "in plane" if n_in[e] < n_out[e] else "out of plane")
+        if gamma is not None:
             ok2 = missing(ok, {"area": area, "yield strength": fy}, "compression")
-            c_res[ok2] = np.minimum(area[ok2] * fy[ok2], n_cr[ok2]) / d.partial_factor
+            squash = area[ok2] * fy[ok2]
+            if alpha is None:
+                c_res[ok2] = np.minimum(squash, n_cr[ok2]) / gamma
+            else:
+                lam[ok2] = relative_slenderness(squash, n_cr[ok2])
+                chi[ok2] = reduction_factor(lam[ok2], alpha)
+                c_res[ok2] = chi[ok2] * squash / gamma
             util["compression"][ok2] = -compression[ok2] / c_res[ok2]
 
-    # slenderness: K L / r for compression members, L / r for tension-only members (not cables)
+    # slenderness: the larger of L_b / r per axis for compression members, L / r (smaller r) for tension-only members
     slender = nan.copy()
     t_slender = nan.copy()
-    if d.effective_length_factor is not None:
-        ok = struts & ~np.isnan(radius)
-        slender[ok] = d.effective_length_factor * lengths[ok] / radius[ok]
+    ok = struts & has_length & ~np.isnan(r_in) & ~np.isnan(r_out)
+    slender[ok] = np.maximum(len_in[ok] / r_in[ok], len_out[ok] / r_out[ok])
+    if has_length.any():
         if d.slenderness_limit is None:
             omitted.append("Slenderness of compression members against a limit: the project gives no slenderness_limit in [design].")
         else:
-            ok = missing(struts, {"area": area, "second moment of area": inertia}, "slenderness")
+            ok = missing(struts & has_length, {"area": area, "second moment of area": inertia}, "slenderness")
             util["slenderness"][ok] = slender[ok] / d.slenderness_limit
     tension_only = in_tension & ~in_compression & ~cable
     ok_r = tension_only & ~np.isnan(radius)
@@ -219,7 +311,8 @@ def member_checks(analysis: Analysis) -> MemberChecks:
 
     conflicts = [(int(e), "cable in compression (it would go slack)") for e in np.flatnonzero(cable & in_compression)]
     conflicts += [(int(e), "strut in tension") for e in np.flatnonzero((roles == "strut") & in_tension)]
-    for arr in (area, inertia, radius, fy, modulus, t_res, n_cr, c_res, slender, t_slender, *util.values()):
+    for arr in (area, inertia, radius, fy, modulus, t_res, n_cr, c_res, slender, t_slender, len_in, len_out, n_in, n_out,
+                lam, chi, *util.values()):
         arr.setflags(write=False)
     return MemberChecks(
         over=env.over,
@@ -243,6 +336,16 @@ def member_checks(analysis: Analysis) -> MemberChecks:
         utilisation=MappingProxyType(util),
         unchecked=tuple(sorted(unchecked)),
         role_conflicts=tuple(sorted(conflicts)),
+        basis=basis.note,
+        buckling_length_in_plane=len_in,
+        buckling_length_out_of_plane=len_out,
+        euler_load_in_plane=n_in,
+        euler_load_out_of_plane=n_out,
+        buckling_axis=tuple(axis),
+        relative_slenderness=lam,
+        reduction_factor=chi,
+        imperfection_factor=alpha,
+        compression_partial_factor=gamma,
     )
 
 
@@ -285,7 +388,7 @@ def _value(x: float, factor: float):
 
 def member_checks_results(checks: MemberChecks, project) -> dict:
     """The member checks as plain numbers in display units (results document section "member_checks")."""
-    f = project.units.factor("force")
+    f, L = project.units.factor("force"), project.units.factor("length")
     d = checks.design
     worst = checks.worst
     governing = checks.governing
@@ -293,6 +396,10 @@ def member_checks_results(checks: MemberChecks, project) -> dict:
         "indicative": True,
         "note": "Indicative checks with the project's factors; not a code check. The governing code is for the engineer.",
         "over": list(checks.over),
+        "states_basis": checks.basis,
+        "compression_method": checks.compression_method,
+        "imperfection_factor": checks.imperfection_factor,
+        "compression_partial_factor": checks.compression_partial_factor,
         "factors": {
             "partial_factor": d.partial_factor,
             "effective_length_factor": d.effective_length_factor,
@@ -324,6 +431,13 @@ def member_checks_results(checks: MemberChecks, project) -> dict:
                 "max_compression_state": checks.max_compression_state[e],
                 "tension_resistance": _value(checks.tension_resistance[e], f),
                 "euler_load": _value(checks.euler_load[e], f),
+                "buckling_length_in_plane": _value(checks.buckling_length_in_plane[e], L),
+                "buckling_length_out_of_plane": _value(checks.buckling_length_out_of_plane[e], L),
+                "euler_load_in_plane": _value(checks.euler_load_in_plane[e], f),
+                "euler_load_out_of_plane": _value(checks.euler_load_out_of_plane[e], f),
+                "buckling_axis": checks.buckling_axis[e],
+                "relative_slenderness": _value(checks.relative_slenderness[e], 1.0),
+                "reduction_factor": _value(checks.reduction_factor[e], 1.0),
                 "compression_resistance": _value(checks.compression_resistance[e], f),
                 "slenderness": _value(checks.slenderness[e], 1.0),
                 "tension_slenderness": _value(checks.tension_slenderness[e], 1.0),
@@ -348,7 +462,9 @@ def member_checks_csv(checks: MemberChecks, project, lengths: np.ndarray) -> str
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(["member", "group", "section", "role", f"length [{u.label('length')}]", f"max tension [{fu}]", "tension state",
                 f"max compression [{fu}]", "compression state", f"tension resistance A fy/gamma [{fu}]", f"Euler load [{fu}]",
-                f"compression resistance [{fu}]", "KL/r", "L/r", "u tension", "u compression", "u slenderness",
+                f"compression resistance [{fu}]", f"buckling length in plane [{u.label('length')}]",
+                f"buckling length out of plane [{u.label('length')}]", "buckling axis", "relative slenderness",
+                "reduction factor chi", "KL/r", "L/r", "u tension", "u compression", "u slenderness",
                 "u tension slenderness", "u governing", "governing check"])
     cell = lambda v: "" if v is None else repr(v)
     governing = checks.governing
@@ -357,7 +473,10 @@ def member_checks_csv(checks: MemberChecks, project, lengths: np.ndarray) -> str
                     cell(_value(lengths[e], L)), cell(_value(checks.max_tension[e], f)), checks.max_tension_state[e],
                     cell(_value(checks.max_compression[e], f)), checks.max_compression_state[e],
                     cell(_value(checks.tension_resistance[e], f)), cell(_value(checks.euler_load[e], f)),
-                    cell(_value(checks.compression_resistance[e], f)), cell(_value(checks.slenderness[e], 1.0)),
+                    cell(_value(checks.compression_resistance[e], f)),
+                    cell(_value(checks.buckling_length_in_plane[e], L)), cell(_value(checks.buckling_length_out_of_plane[e], L)),
+                    checks.buckling_axis[e], cell(_value(checks.relative_slenderness[e], 1.0)),
+                    cell(_value(checks.reduction_factor[e], 1.0)), cell(_value(checks.slenderness[e], 1.0)),
                     cell(_value(checks.tension_slenderness[e], 1.0))]
                    + [cell(_value(checks.utilisation[c][e], 1.0)) for c in CHECKS]
                    + [cell(_value(governing[e], 1.0)), checks.governing_check[e]])

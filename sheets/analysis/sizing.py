@@ -1,8 +1,9 @@
 """Constant-stress sizing: the least material when every member works at one stress.
 
 With a stress limit sigma the area a member needs is A_e = |t_e| / sigma, taken
-here for the largest |force| the member carries over the states of the envelope
-(combinations, or load cases where there are none). The material volume is
+here for the largest |force| the member carries over the strength states
+(sheets.analysis.design_states: the combinations tagged "strength", else every
+state but the serviceability combinations). The material volume is
 V = sum_e A_e L_e and the mass sum_e rho_e A_e L_e.
 
 Maxwell's load path theorem ties the tension and compression volumes of any one
@@ -26,6 +27,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from sheets.analysis.analyse import make_envelope
+from sheets.analysis.design_states import design_states
 from sheets.export.results import _num
 
 
@@ -125,9 +128,9 @@ def state_volumes(analysis, state, sigma: float) -> StateVolumes:
 
 
 def size_members(analysis) -> Sizing:
-    """Constant-stress sizing from ``project.design.stress_limit`` over ``analysis.envelope``."""
+    """Constant-stress sizing from ``project.design.stress_limit`` over the strength states."""
     project = analysis.project
-    env = analysis.envelope
+    env = make_envelope(project, design_states(analysis).strength)
     lengths = np.asarray(analysis.equilibrium.lengths)
     m = project.n_members
     sigma = project.design.stress_limit

@@ -176,6 +176,7 @@ def _build(r: _Reader, data: dict) -> Project | None:
     options = _options(r, data)
     drawing = _drawing(r, data, dim, {c.id for c in cases} | {c.id for c in combinations} | ({prestress.id} if prestress else set()))
     design = _design(r, data, units)
+    _check_design_ids(r, design, members)
     polyhedral = _polyhedral(r, data, node_index, dim)
     if r.problems:
         return None
@@ -267,7 +268,8 @@ def _materials(r: _Reader, data: dict, units: DisplayUnits) -> dict[str, Materia
 
 def _sections(r: _Reader, data: dict, units: DisplayUnits, materials: dict) -> dict[str, Section]:
     out = {}
-    kinds = {"area": "area", "second_moment": "second_moment", "axial_stiffness": "force"}
+    kinds = {"area": "area", "second_moment": "second_moment", "axial_stiffness": "force",
+             "second_moment_in_plane": "second_moment", "second_moment_out_of_plane": "second_moment"}
     for sid, table in r.table(data.get("sections"), ("sections",)).items():
         w = ("sections", sid)
         table = r.table(table, w)
@@ -282,7 +284,8 @@ def _sections(r: _Reader, data: dict, units: DisplayUnits, materials: dict) -> d
             r.problem(w + ("material",), f"unknown material '{material}'", f"did you mean '{near[0]}'?" if near else "define it under [materials]")
         if values["area"] is None and values["axial_stiffness"] is None and "area" not in table and "axial_stiffness" not in table:
             r.problem(w, "a section needs 'area' (with a material) or 'axial_stiffness'", 'add area = "1200 mm^2"')
-        out[sid] = Section(sid, material, values["area"], values["second_moment"], values["axial_stiffness"])
+        out[sid] = Section(sid, material, values["area"], values["second_moment"], values["axial_stiffness"],
+                           values["second_moment_in_plane"], values["second_moment_out_of_plane"])
     return out
 
 
@@ -538,7 +541,8 @@ def _combinations(r: _Reader, data: dict, state_ids: set[str]) -> list[Combinati
                 r.problem(w + ("factors", case_id), f"factor must be a finite number, got {f!r}", f"e.g. {case_id} = 1.5")
             else:
                 factors.append((case_id, float(f)))
-        out.append(Combination(cid, r.text(table, "title", w, cid), tuple(factors)))
+        purpose = r.choice(table, "purpose", schema.PURPOSES, "", w, "combination purpose") if "purpose" in table else ""
+        out.append(Combination(cid, r.text(table, "title", w, cid), tuple(factors), purpose))
     return out
 
 
@@ -634,10 +638,70 @@ def _design(r: _Reader, data: dict, units: DisplayUnits) -> DesignOptions:
             r.problem(w + (key,), f"{key} must be a positive number, got {v!r}")
             v = None
         values[key] = None if v is None else float(v)
+    for key in ("imperfection_factor", "buckling_partial_factor", "deflection_limit"):
+        values[key] = _positive_number(r, table, key, w)
     limit = None
     if "stress_limit" in table:
         limit = r.positive(r.quantity(table["stress_limit"], "stress", units, w + ("stress_limit",)), w + ("stress_limit",), "stress_limit")
-    return DesignOptions(stress_limit=limit, **values)
+    method = r.choice(table, "compression_method", schema.COMPRESSION_METHODS, "euler", w, "compression method")
+    curve = r.choice(table, "buckling_curve", schema.BUCKLING_CURVES, "", w, "buckling curve") if "buckling_curve" in table else ""
+    given = bool(curve) + ("imperfection_factor" in table)
+    if given == 2:
+        r.problem(w + ("imperfection_factor",), "both buckling_curve and imperfection_factor are given",
+                  "give one: the curve's name, or its imperfection factor")
+    elif method == "buckling_curve" and not given and "buckling_curve" not in table:
+        r.problem(w + ("compression_method",), "the buckling curve method needs the curve",
+                  f"add buckling_curve = \"b\" (one of {', '.join(schema.BUCKLING_CURVES)}) or imperfection_factor = 0.34")
+    return DesignOptions(stress_limit=limit, compression_method=method, buckling_curve=curve,
+                         effective_length_factors=_length_factors(r, table, w), buckling_lengths=_buckling_lengths(r, table, units, w),
+                         **values)
+
+
+def _positive_number(r: _Reader, table: dict, key: str, w: Path_) -> float | None:
+    v = table.get(key)
+    if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0):
+        r.problem(w + (key,), f"{key} must be a positive number, got {v!r}")
+        return None
+    return None if v is None else float(v)
+
+
+def _length_factors(r: _Reader, table: dict, w: Path_) -> tuple[tuple[str, float], ...]:
+    """[design.effective_length_factors]: member or group id -> K (checked against the frame in _check_design_ids)."""
+    where = w + ("effective_length_factors",)
+    out = []
+    for name in r.table(table.get("effective_length_factors"), where):
+        k = _positive_number(r, table["effective_length_factors"], name, where)
+        if k is not None:
+            out.append((name, k))
+    return tuple(out)
+
+
+def _buckling_lengths(r: _Reader, table: dict, units: DisplayUnits, w: Path_):
+    """[design.buckling_lengths]: member or group id -> { in_plane = length, out_of_plane = length }."""
+    where = w + ("buckling_lengths",)
+    out = []
+    for name, entry in r.table(table.get("buckling_lengths"), where).items():
+        entry = r.table(entry, where + (name,))
+        r.known_keys(entry, schema.BUCKLING_LENGTH, where + (name,))
+        if not entry:
+            r.problem(where + (name,), "a buckling length entry needs in_plane, out_of_plane or both", 'e.g. { in_plane = "3 m", out_of_plane = "6 m" }')
+            continue
+        lengths = [r.positive(r.quantity(entry[k], "length", units, where + (name, k)), where + (name, k), k) if k in entry else None
+                   for k in schema.BUCKLING_LENGTH]
+        out.append((name, *lengths))
+    return tuple(out)
+
+
+def _check_design_ids(r: _Reader, design: DesignOptions, members) -> None:
+    """Each id in the per-member design tables must name a member or a group."""
+    known = {m[0] for m in members} | {m[5] for m in members if m[5]}
+    for key, names in (("effective_length_factors", [n for n, _ in design.effective_length_factors]),
+                       ("buckling_lengths", [n for n, *_ in design.buckling_lengths])):
+        for name in names:
+            if name not in known:
+                near = difflib.get_close_matches(name, sorted(known), n=1)
+                r.problem(("design", key, name), f"'{name}' is neither a member nor a group",
+                          f"did you mean '{near[0]}'?" if near else "use a member id or a group name")
 
 
 def _polyhedral(r: _Reader, data: dict, node_index: dict, dim: int) -> PolyhedralInput:

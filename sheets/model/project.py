@@ -63,6 +63,9 @@ class Section:
     area: float | None  # m^2
     second_moment: float | None = None  # m^4
     axial_stiffness: float | None = None  # N, EA given directly
+    # per buckling axis where the section is not the same both ways (m^4); None: second_moment
+    second_moment_in_plane: float | None = None
+    second_moment_out_of_plane: float | None = None
 
     def ea(self, materials: Mapping[str, Material]) -> float | None:
         if self.axial_stiffness is not None:
@@ -92,6 +95,7 @@ class Combination:
     id: str
     title: str
     factors: tuple[tuple[str, float], ...]  # (case or prestress id, factor)
+    purpose: str = ""  # "strength", "serviceability" or "" (untagged): which design checks use it
 
 
 @dataclass(frozen=True)
@@ -144,9 +148,19 @@ class DesignOptions:
 
     partial_factor: float | None = None  # gamma on resistance
     effective_length_factor: float | None = None  # K for Euler buckling
-    slenderness_limit: float | None = None  # KL/r limit for compression members
+    slenderness_limit: float | None = None  # L_b/r limit for compression members (L_b = K L or as given)
     tension_slenderness_limit: float | None = None  # L/r limit for tension members
     stress_limit: float | None = None  # Pa, for constant-stress sizing
+    # compression: "euler" (min(A f_y, N_cr) / gamma) or "buckling_curve" (chi A f_y / gamma_b)
+    compression_method: str = "euler"
+    buckling_curve: str = ""  # the curve named in the file ("a0" .. "d"), if named
+    imperfection_factor: float | None = None  # alpha of the buckling curve (given, or from the named curve)
+    buckling_partial_factor: float | None = None  # gamma on the buckling resistance; None: partial_factor
+    # (member or group id, K): overrides effective_length_factor; a member id wins over its group
+    effective_length_factors: tuple[tuple[str, float], ...] = ()
+    # (member or group id, in-plane length m or None, out-of-plane length m or None): buckling lengths
+    buckling_lengths: tuple[tuple[str, float | None, float | None], ...] = ()
+    deflection_limit: float | None = None  # n in span / n, for the serviceability check
 
 
 @dataclass(frozen=True)

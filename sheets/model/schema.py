@@ -41,11 +41,12 @@ PROJECT = (
 REVISION = ("revision", "date", "note")
 GEOMETRY = ("dimension", "vertical_axis", "nodes_file", "members_file")
 MATERIAL = ("elastic_modulus", "yield_strength", "density")
-SECTION = ("material", "area", "second_moment", "axial_stiffness")
+SECTION = ("material", "area", "second_moment", "axial_stiffness", "second_moment_in_plane", "second_moment_out_of_plane")
 MEMBER = ("ends", "section", "role", "group")
 MEMBER_DEFAULTS = ("section", "role", "group")
 CASE = ("title", "self_weight", "loads", "loads_file")
-COMBINATION = ("title", "factors")
+COMBINATION = ("title", "factors", "purpose")
+PURPOSES = ("strength", "serviceability")
 ANALYSIS = ("method", "rank_tolerance", "equilibrium_tolerance", "dense_limit")
 PRESTRESS = ("id", "method", "level", "member", "force")
 ANALYSIS_METHODS = ("auto", "elastic")
@@ -58,5 +59,10 @@ NAMED_DIRECTIONS = {
     "side": (1.0, 0.0, 0.0),
     "axonometric": (1.0, -1.0, 1.0),
 }
-DESIGN = ("partial_factor", "effective_length_factor", "slenderness_limit", "tension_slenderness_limit", "stress_limit")
+DESIGN = ("partial_factor", "effective_length_factor", "slenderness_limit", "tension_slenderness_limit", "stress_limit",
+          "compression_method", "buckling_curve", "imperfection_factor", "buckling_partial_factor",
+          "effective_length_factors", "buckling_lengths", "deflection_limit")
+COMPRESSION_METHODS = ("euler", "buckling_curve")
+BUCKLING_CURVES = ("a0", "a", "b", "c", "d")  # EN 1993-1-1 Table 6.1 curve names
+BUCKLING_LENGTH = ("in_plane", "out_of_plane")
 POLYHEDRAL = ("cells", "find_tetrahedra", "heights")

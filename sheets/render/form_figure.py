@@ -6,7 +6,9 @@ Three kinds, each a matplotlib Figure built without pyplot (no global state):
 - ``loads_figure``: the frame in grey with the nodal loads of one load case;
 - ``forces_figure``: the frame coloured by the member forces of one state
   (tension bluish green, compression vermillion, zero-force grey; line width
-  proportional to |force|), with its loads (black) and reactions (sky blue).
+  proportional to |force|), with its loads (black) and reactions (sky blue);
+- ``displaced_figure``: the displaced shape of one state over the frame as
+  given, displacements exaggerated by a stated round factor.
 
 A 3D frame is drawn as orthographic views (the project's [drawing] views:
 plan, front, side, axonometric), one panel each. Every figure has a legend and
@@ -260,3 +262,42 @@ def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, react
         Line2D([], [], color=palette.REACTION, lw=2, label=f"reaction (longest arrow {arrow_max / f_factor:.4g} {f_unit})"),
     ]
     return _finish(fig, axes, _legend(fig, handles, title, 3))
+
+
+def exaggeration(largest: float, extent: float, share: float = 0.08) -> float:
+    """A round factor (1, 2 or 5 x 10^k) that draws the largest displacement at about ``share`` of the frame."""
+    if largest <= 0 or extent <= 0:
+        return 1.0
+    target = share * extent / largest
+    step = 10 ** math.floor(math.log10(target))
+    return max(mult * step for mult in (1, 2, 5) if mult * step <= target)
+
+
+def displaced_figure(project: Project, displacements: np.ndarray, title: str, labels_up_to: int = 120,
+                     marked: str = "") -> Figure:
+    """The frame as given (grey) and displaced (blue), the displacements drawn at a round exaggeration.
+
+    ``marked``: a node id to ring (the node of the largest deflection).
+    """
+    fig, axes, views, xys = _layout(project)
+    d_unit, d_factor = project.units.label("displacement"), project.units.factor("displacement")
+    size = np.linalg.norm(displacements, axis=1)
+    largest = float(size.max(initial=0.0))
+    scale = exaggeration(largest, _extent(project.coords))
+    moved = project.coords + scale * displacements
+    for ax, (_, proj), xy in zip(axes, views, xys):
+        _members(ax, project, xy, palette.ZERO_FORCE, 0.6, zorder=1)
+        _members(ax, project, moved @ proj, palette.DISPLACED, 1.2)
+        _supports(ax, project, xy, proj, 25 if project.n_members <= 300 else 10)
+        if marked in project.node_ids:
+            k = project.node_ids.index(marked)
+            p = moved[k] @ proj
+            ax.scatter([p[0]], [p[1]], s=40, facecolor="none", edgecolor=palette.DISPLACED, linewidths=1.0, zorder=6)
+            ax.annotate(marked, (p[0], p[1]), xytext=(4, -8), textcoords="offset points", fontsize=FONT, color=palette.DISPLACED)
+        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    handles = [Line2D([], [], color=palette.ZERO_FORCE, lw=0.6, label="frame as given"),
+               Line2D([], [], color=palette.DISPLACED, lw=1.2,
+                      label=f"displaced, displacements drawn x {scale:g} (largest {largest / d_factor:.3g} {d_unit})")]
+    if marked:
+        handles.append(Line2D([], [], marker="o", ls="", mfc="none", mec=palette.DISPLACED, label=f"largest deflection, node {marked}"))
+    return _finish(fig, axes, _legend(fig, handles, title, 2))

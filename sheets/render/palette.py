@@ -16,6 +16,7 @@ NODE = "#000000"
 LABEL = "#222222"
 CROSSING = "#CC79A7"  # reddish purple: planarisation crossing vertices
 FACE = "#F0E442"  # yellow, for highlighted faces/spaces
+DISPLACED = "#0072B2"  # blue: the displaced shape
 
 ZERO_FORCE_RELATIVE = 1e-9  # |t| below this x max|t| is drawn as zero-force
 

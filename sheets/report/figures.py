@@ -17,6 +17,8 @@ Sources, in the order the sheets use them (part of the sheet: module):
     cells          the polyhedral diagram by polarity, 3D
                    frames with a [polyhedral] table           (render.cells3d.polar_diagram_figure)
     minkowski      the Minkowski-sum view                    (render.minkowski.minkowski_figure)
+    serviceability each serviceability combination's displaced
+                   shape                                     (render.form_figure.displaced_figure)
 
 Render modules of other stages draw to a path ``f(analysis, state_id, path, **inputs)``, the
 inputs being the state's diagrams as the build made them once (sheets.reciprocal.stage).
@@ -148,6 +150,26 @@ def _forces(analysis: Analysis, template: Template, scratch: Path, state, prepar
                                                                template.labels_up_to)))
 
 
+def _serviceability_states(analysis: Analysis) -> list:
+    from sheets.analysis.design_states import design_states
+
+    return [s for s in design_states(analysis).serviceability if s.displacements is not None]
+
+
+def _displaced(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
+    from sheets.analysis.serviceability import state_displacements
+
+    p = analysis.project
+    title = f"{state_label(state)}: {state.title}"
+    worst = state_displacements(p, state, None, None)
+    yield SheetFigure(safe_key("displaced", state.id), "serviceability", state.id, f"Displaced shape, {title}",
+                      "The frame as given (grey) and displaced (blue) under the combination; the displacements are "
+                      "exaggerated by the round factor in the legend, lengths are true to the scale bar. "
+                      f"The ring marks node {worst.deflection_node}, the largest displacement along the vertical axis.",
+                      vector=_vector(form_figure.displaced_figure(p, state.displacements, title, template.labels_up_to,
+                                                                  worst.deflection_node)))
+
+
 def _loaded_cases(analysis: Analysis) -> list:
     return [s for s in analysis.cases if s.kind == "case" and abs(s.loads).max(initial=0.0) > 0]
 
@@ -268,6 +290,7 @@ SOURCES: tuple[Source, ...] = (
                   "proportional to |force| x length, its share of the load path (bluish green tension, vermillion "
                   "compression); the totals are set beside Maxwell's load path theorem.", vector_dims=(2,),
                   inputs=_prepared_view),
+    Source("displaced shape", _serviceability_states, _displaced),
 )
 
 

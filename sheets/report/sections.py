@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import io
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Any, Callable
 
 import numpy as np
@@ -18,6 +19,7 @@ from reportlab.platypus.tableofcontents import TableOfContents
 
 from sheets import __version__
 from sheets.analysis import Analysis
+from sheets.analysis.design_states import design_states
 from sheets.analysis.member_checks import CHECK_TITLES, MemberChecks, group_summaries
 from sheets.model.project import AXES
 from sheets.report.document import Heading
@@ -52,6 +54,18 @@ class SheetSet:
     @property
     def project(self):
         return self.analysis.project
+
+    @cached_property
+    def serviceability(self):
+        from sheets.analysis.serviceability import serviceability
+
+        return serviceability(self.analysis)
+
+    @cached_property
+    def outcome(self):
+        from sheets.analysis.outcome import design_outcome
+
+        return design_outcome(self.analysis, self.checks, self.serviceability)
 
     def figures_for(self, part: str, state: str | None = None) -> list[SheetFigure]:
         return [f for f in self.figures if f.part == part and f.state == state]
@@ -102,6 +116,7 @@ def cover(sheet: SheetSet, st: Styles) -> list:
                  Paragraph(escape(info.title), st.cover_title)]
     if info.calculation:
         out.append(Paragraph(escape(info.calculation), st.h1))
+    out += outcome_block(sheet, st)
     pairs = [
         ("Project", info.title), ("Project number", info.number), ("Client", info.client),
         ("Calculation", info.calculation), ("Status", info.status), ("Revision", info.revision),
@@ -130,6 +145,7 @@ def cover(sheet: SheetSet, st: Styles) -> list:
         ("Stability", det.classification),
         ("Verification of the solutions", passed),
         ("Indicative member checks", util),
+        ("Serviceability", _serviceability_summary(sheet)),
     ]
     out.append(Paragraph("Summary", st.h2))
     out.append(key_value(st, summary, sheet.width))
@@ -149,6 +165,44 @@ def cover(sheet: SheetSet, st: Styles) -> list:
                                  ("TOPPADDING", (0, 0), (-1, -1), 0), ("BOTTOMPADDING", (0, 0), (-1, -1), 0)])
     out.append(toc)
     return out
+
+
+def _serviceability_summary(sheet: SheetSet) -> str:
+    """One line per serviceability combination: the largest deflection, span / deflection and the limit check."""
+    s = sheet.serviceability
+    if not s.states:
+        return s.note
+    unit = sheet.project.units
+    parts = []
+    for x in s.states:
+        if not x.available:
+            parts.append(f"{x.state}: no displacements")
+            continue
+        text = f"{x.state}: largest deflection {fmt(x.deflection / unit.factor('displacement'), 'displacement')} " \
+               f"{ulabel(unit, 'displacement')} at {x.deflection_node}"
+        if x.ratio is not None:
+            text += f", span / {x.ratio:,.0f}"
+        if x.passed is not None:
+            text += f" ({'pass' if x.passed else 'FAIL'} against span / {s.limit:g})"
+        parts.append(text)
+    return "; ".join(parts)
+
+
+def outcome_block(sheet: SheetSet, st: Styles) -> list:
+    """The design outcome, stated first: flags shaded, each with its ids (sheets.analysis.outcome)."""
+    o = sheet.outcome
+    u = sheet.project.units
+    verdict = ("FLAGGED: the shaded items below need the engineer's action before the design can stand"
+               if o.flagged else "no flag raised by the indicative checks")
+    if not sheet.analysis.passed:
+        verdict = "A VERIFICATION CHECK FAILS: the results must not be used as they stand. " + verdict
+    findings = o.findings(ulabel(u, "force"), u.factor("force"))
+    rows = [[text] for text, _ in findings]
+    return [Paragraph(f"Design outcome: {escape(verdict)}", st.h2),
+            table(st, ["What the indicative checks find (states: " + ", ".join(o.states[:8])
+                       + (" ..." if len(o.states) > 8 else "") + ")"], rows, widths=[sheet.width],
+                  highlight=[i for i, (_, flag) in enumerate(findings) if flag]),
+            Spacer(1, 4)]
 
 
 def _toc_style(st: Styles, level: int):
@@ -175,7 +229,7 @@ def design_basis(sheet: SheetSet, st: Styles) -> list:
         "Loads act at the nodes only. Self-weight, where a case asks for it, is each member's weight "
         "(density x g x area x length) shared equally between its two end nodes.",
         "Linear, small-displacement analysis: equilibrium is written on the undeformed geometry; "
-        "no second-order, buckling (other than the indicative Euler check), dynamic or time-dependent effects.",
+        "no second-order, buckling (other than the indicative member checks), dynamic or time-dependent effects.",
         f"Forces are found by {method}. Combinations add the states' forces with their factors.",
         "Supports fix the translations named in the project file; a fixed translation carries any reaction.",
         "Units: values are computed in SI and printed in the display units below.",
@@ -226,8 +280,9 @@ def design_basis(sheet: SheetSet, st: Styles) -> list:
         out.append(para(f"<b>Prestress {escape(ps.id)}</b>: {escape(how)}.", st))
     out.append(Paragraph("Combinations", st.h2))
     if p.combinations:
-        rows = [[c.id, c.title, " + ".join(f"{fac:g} x {cid}" for cid, fac in c.factors)] for c in p.combinations]
-        out.append(table(st, ["Combination", "Title", "Factors"], rows, widths=[w * 0.15, w * 0.4, w * 0.45]))
+        rows = [[c.id, c.title, " + ".join(f"{fac:g} x {cid}" for cid, fac in c.factors), c.purpose or "-"] for c in p.combinations]
+        out.append(table(st, ["Combination", "Title", "Factors", "Purpose"], rows, widths=[w * 0.14, w * 0.38, w * 0.33, w * 0.15]))
+        out.append(para(escape(f"Member checks and sizing take {design_states(sheet.analysis).note}."), st, "small"))
     else:
         out.append(para("The project gives no combinations; envelopes are taken over the load cases.", st))
     out.append(Paragraph("Factors for the indicative member checks", st.h2))
@@ -236,14 +291,39 @@ def design_basis(sheet: SheetSet, st: Styles) -> list:
     out.append(key_value(st, [
         ("Partial factor on resistance, gamma", given(d.partial_factor)),
         ("Effective length factor, K", given(d.effective_length_factor)),
-        ("Slenderness limit for compression members, K L / r", given(d.slenderness_limit)),
+        ("Slenderness limit for compression members, L_b / r", given(d.slenderness_limit)),
         ("Slenderness limit for tension members, L / r", given(d.tension_slenderness_limit)),
         ("Stress limit for constant-stress sizing", "not given: sizing is left out" if d.stress_limit is None
          else f"{fmt(d.stress_limit / u.factor('stress'), 'stress')} {ulabel(u, 'stress')}"),
-    ], w * 0.8, 0.55))
+    ] + _buckling_factors(d, u), w * 0.8, 0.55))
     out.append(para("These factors come from the project file only; the software holds no code values. "
                     "Choosing them is the engineer's decision under the governing code.", st, "small"))
     return out
+
+
+def _buckling_factors(d, u) -> list[tuple[str, str]]:
+    """The compression method and the per-member buckling data, as the project gives them."""
+    from sheets.analysis.buckling import imperfection_factor
+
+    if d.compression_method == "buckling_curve":
+        curve = f"curve {d.buckling_curve}, " if d.buckling_curve else ""
+        method = f"buckling curve (EN 1993-1-1:2005 6.3.1.2), {curve}imperfection factor α = {imperfection_factor(d):g}"
+        gamma = d.buckling_partial_factor if d.buckling_partial_factor is not None else d.partial_factor
+        rows = [("Compression method", method),
+                ("Partial factor on the buckling resistance", "not given" if gamma is None else
+                 f"{gamma:g}" + ("" if d.buckling_partial_factor is not None else " (the partial factor above)"))]
+    else:
+        rows = [("Compression method", "squash load and Euler's load, min(A f_y, N_cr) / γ")]
+    if d.effective_length_factors:
+        rows.append(("Effective length factors by member or group", ", ".join(f"{n}: {k:g}" for n, k in d.effective_length_factors)))
+    if d.buckling_lengths:
+        L = u.factor("length")
+        text = lambda v: "K L" if v is None else f"{fmt(v / L, 'length')} {ulabel(u, 'length')}"
+        rows.append(("Buckling lengths by member or group (in plane / out of plane)",
+                     ", ".join(f"{n}: {text(a)} / {text(b)}" for n, a, b in d.buckling_lengths)))
+    rows.append(("Deflection limit, span / n", "not given: the ratio is reported only" if d.deflection_limit is None
+                 else f"n = {d.deflection_limit:g}"))
+    return rows
 
 
 # -- model -------------------------------------------------------------------
@@ -515,17 +595,27 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
     w = sheet.width
     out: list = [heading("Member checks (indicative)", st, 0, "member-checks")]
     out.append(para("<b>Indicative only; not a code check.</b> These checks use the simple expressions below with the "
-                    "factors given in the project file. Buckling curves, imperfections, connections, local effects and "
-                    "every other requirement of the governing code are for the engineer to determine.", st))
+                    "factors given in the project file. The choice of method, buckling curve and factors, connections, "
+                    "local effects and every other requirement of the governing code are for the engineer to determine.", st))
+    if c.compression_method == "buckling_curve":
+        curve = f"curve {p.design.buckling_curve}, " if p.design.buckling_curve else ""
+        compression = (f"Compression: |t| ≤ χ A f_y / γ (γ = {fmt(c.compression_partial_factor, 'factor')}), the buckling curve "
+                       f"method of EN 1993-1-1:2005 6.3.1.2 ({curve}imperfection factor α = {c.imperfection_factor:g}): "
+                       "λ̄ = √(A f_y / N_cr), Φ = 0.5 [1 + α (λ̄ − 0.2) + λ̄²], χ = 1 / (Φ + √(Φ² − λ̄²)) ≤ 1")
+    else:
+        compression = "Compression: |t| ≤ min(A f_y, N_cr) / γ"
     for text in (
         "Tension: t ≤ A f_y / γ",
-        "Compression: |t| ≤ min(A f_y, N_cr) / γ, with Euler's load N_cr = π² E I / (K L)²",
-        "Slenderness: K L / r ≤ limit for members in compression, L / r ≤ limit for members only in tension; r = √(I / A)",
+        compression,
+        "Euler's load N_cr = π² E I / L_b² about each buckling axis (in plane and out of plane), L_b = K L or the buckling "
+        "length the project gives for the member or its group; the axis with the lower N_cr governs",
+        "Slenderness: L_b / r ≤ limit for members in compression (the larger over the axes), L / r ≤ limit for members "
+        "only in tension; r = √(I / A)",
         "Utilisation = demand / capacity; a value above 1.000 exceeds the check.",
     ):
         out.append(Paragraph(escape(text), st.caution, bulletText="•"))
-    out.append(para(f"Demands are each member's largest tension and compression over every state "
-                    f"({escape(', '.join(c.over))}). Cables take the tension check only.", st))
+    out.append(para(f"Demands are each member's largest tension and compression over {escape(c.basis or ', '.join(c.over))}. "
+                    "Cables take the tension check only.", st))
     if c.omitted:
         out.append(Paragraph("Checks left out", st.h2))
         for text in c.omitted:
@@ -538,10 +628,10 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
     failing = c.failing
     out.append(Paragraph("Result", st.h2))
     out.append(key_value(st, [
-        ("Checks made", ", ".join(CHECK_TITLES[k] for k in made)),
+        ("Checks made", ", ".join(c.title(k) for k in made)),
         ("Members checked", f"{int((~np.isnan(c.governing)).sum())} of {p.n_members}"),
         ("Governing member", f"{p.member_ids[worst]}: utilisation {fmt(c.governing[worst], 'ratio')} "
-                             f"({CHECK_TITLES[c.governing_check[worst]]}; state {c.governing_state(worst) or '-'})"),
+                             f"({c.title(c.governing_check[worst])}; state {c.governing_state(worst) or '-'})"),
         ("Members above a utilisation of 1.000", f"{len(failing)}" + (": " + ", ".join(p.member_ids[e] for e in failing[:20])
                                                                          + (" ..." if len(failing) > 20 else "") if len(failing) else "")),
         ("Members a check could not be made for", str(len({e for e, _ in c.unchecked}))),
@@ -561,7 +651,7 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
     order = [e for e in order if g[e] >= 0][:rows_max]
     out.append(Paragraph("Members with the largest utilisation" if len(order) < p.n_members else "Every member", st.h2))
     header = ["Member", "Section", f"Max T [{_force_unit(p)}]", f"Max C [{_force_unit(p)}]", f"A f_y/γ [{_force_unit(p)}]",
-              f"N_cr [{_force_unit(p)}]", f"N_c,Rd [{_force_unit(p)}]", "K L/r or L/r", "u tension", "u comp.", "u slender", "Governs"]
+              f"N_cr [{_force_unit(p)}]", f"N_c,Rd [{_force_unit(p)}]", "L_b/r or L/r", "u tension", "u comp.", "u slender", "Governs"]
     rows = []
     for e in order:
         slender = c.slenderness[e] if not np.isnan(c.slenderness[e]) else c.tension_slenderness[e]
@@ -571,10 +661,11 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
                      fmt(c.euler_load[e] / f, "force"), fmt(c.compression_resistance[e] / f, "force"),
                      fmt(slender, "slenderness"), fmt(c.utilisation["tension"][e], "ratio"),
                      fmt(c.utilisation["compression"][e], "ratio"), fmt(u_sl if u_sl >= 0 else None, "ratio"),
-                     f"{fmt(c.governing[e], 'ratio')} {c.governing_check[e].replace('tension_slenderness', 'L/r').replace('slenderness', 'KL/r')}"])
+                     f"{fmt(c.governing[e], 'ratio')} {c.governing_check[e].replace('tension_slenderness', 'L/r').replace('slenderness', 'L_b/r')}"])
     hi = [i for i, e in enumerate(order) if c.governing[e] > 1]
     shares = [7, 8, 7.5, 7.5, 7.5, 7.5, 7.5, 6.5, 6.5, 6.5, 6.5, 21]
     out.append(table(st, header, rows, numeric=set(range(2, 11)), widths=[w * x / sum(shares) for x in shares], highlight=hi))
+    out += buckling_table(sheet, st)
     out.append(para(f"Every member's checks are in csv/member_checks.csv. "
                     f"{_rows_note(len(rows), int((g >= 0).sum()), 'checked members', 'csv/member_checks.csv', 'largest by utilisation')}",
                     st, "small"))
@@ -589,6 +680,90 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
         rows = [[p.member_ids[e], p.member_roles[e], why] for e, why in c.role_conflicts[:rows_max]]
         out.append(table(st, ["Member", "Role", "Conflict"], rows, widths=[w * 0.2, w * 0.15, w * 0.65],
                          highlight=list(range(len(rows)))))
+    return out
+
+
+def buckling_table(sheet: SheetSet, st: Styles) -> list:
+    """Buckling of the compression members, each axis: lengths, critical loads, the governing axis (and chi)."""
+    p = sheet.project
+    c = sheet.checks
+    u = p.units
+    f, L = u.factor("force"), u.factor("length")
+    util = np.nan_to_num(c.utilisation["compression"], nan=-1.0)
+    order = [e for e in np.argsort(-util, kind="stable") if util[e] >= 0][: sheet.template.table_rows]
+    if not order:
+        return []
+    curve = c.compression_method == "buckling_curve"
+    header = ["Member", f"L_b in plane [{ulabel(u, 'length')}]", f"L_b out of plane [{ulabel(u, 'length')}]",
+              f"N_cr in plane [{_force_unit(p)}]", f"N_cr out of plane [{_force_unit(p)}]", "Governing axis"]
+    header += ["λ̄", "χ"] if curve else []
+    header += [f"N_c,Rd [{_force_unit(p)}]", "u comp."]
+    rows = []
+    for e in order:
+        row = [p.member_ids[e], fmt(c.buckling_length_in_plane[e] / L, "length"), fmt(c.buckling_length_out_of_plane[e] / L, "length"),
+               fmt(c.euler_load_in_plane[e] / f, "force"), fmt(c.euler_load_out_of_plane[e] / f, "force"), c.buckling_axis[e] or "-"]
+        row += [fmt(c.relative_slenderness[e], "ratio"), fmt(c.reduction_factor[e], "ratio")] if curve else []
+        row += [fmt(c.compression_resistance[e] / f, "force"), fmt(c.utilisation["compression"][e], "ratio")]
+        rows.append(row)
+    numeric = set(range(1, len(header))) - {5}
+    return [Paragraph("Buckling of the compression members", st.h2),
+            table(st, header, rows, numeric=numeric, total_width=sheet.width,
+                  highlight=[i for i, e in enumerate(order) if util[e] > 1])]
+
+
+# -- serviceability: displacements of the serviceability combinations ---------
+
+def serviceability(sheet: SheetSet, st: Styles) -> list:
+    s = sheet.serviceability
+    p = sheet.project
+    u = p.units
+    w = sheet.width
+    out: list = [heading("Displacements under the serviceability combinations", st, 0, "serviceability")]
+    if not s.states:
+        return out + [para(escape(s.note.capitalize() + "."), st)]
+    D, L = u.factor("displacement"), u.factor("length")
+    d_unit = ulabel(u, "displacement")
+    out.append(para("Linear-elastic, small-displacement nodal displacements from the analysis (member elongations "
+                    "t L / E A). Deflection: the displacement along the vertical axis "
+                    f"({AXES[p.vertical_axis]}) of largest magnitude; displacement: the largest |d| of any node.", st))
+    span = ("no span: fewer than two supports apart horizontally" if s.span is None else
+            f"{fmt(s.span / L, 'length')} {ulabel(u, 'length')}, between supports {s.span_nodes[0]} and {s.span_nodes[1]} "
+            "(the largest horizontal distance between two supported nodes)")
+    out.append(key_value(st, [
+        ("Span for span / deflection", span),
+        ("Limit", "none given ([design] deflection_limit): the ratio is reported only" if s.limit is None
+         else f"span / {s.limit:g}: the ratio must be at least {s.limit:g}"),
+        ("Combinations", ", ".join(x.state for x in s.states)),
+    ], w, 0.32))
+    rows = []
+    for x in s.states:
+        if not x.available:
+            rows.append([x.state, "-", "-", "-", "-", "-", x.note])
+            continue
+        move = x.support_movements[0] if x.support_movements else None
+        rows.append([x.state, f"{fmt(x.deflection / D, 'displacement')} ({x.deflection_node})",
+                     "-" if x.ratio is None else f"{x.ratio:,.0f}",
+                     "-" if x.passed is None else ("pass" if x.passed else "FAIL"),
+                     f"{fmt(x.total / D, 'displacement')} ({x.total_node})",
+                     "none" if move is None else f"{fmt(move[2] / D, 'displacement')} ({move[0]}, {move[1]})", ""])
+    out.append(table(st, ["Combination", f"Largest deflection [{d_unit}] (node)", "Span / deflection", "Limit check",
+                          f"Largest displacement [{d_unit}] (node)", f"Largest support movement [{d_unit}]", "Note"],
+                     rows, numeric={2}, total_width=w, highlight=[i for i, x in enumerate(s.states) if x.passed is False]))
+    moving = [(x.state, m) for x in s.states for m in x.support_movements]
+    if moving:
+        out.append(Paragraph("Support movements (along the directions the supports leave free)", st.h2))
+        rows_max = sheet.template.table_rows
+        shown = sorted(moving, key=lambda sm: -abs(sm[1][2]))[:rows_max]
+        out.append(table(st, ["Combination", "Node", "Axis", f"Movement [{d_unit}]"],
+                         [[state, n, a, fmt(v / D, "displacement")] for state, (n, a, v) in shown],
+                         numeric={3}, total_width=w * 0.6))
+        note = _rows_note(len(shown), len(moving), "support movements", "results.json (serviceability)", "largest")
+        if note:
+            out.append(para(note, st, "small"))
+    for x in s.states:
+        for fig in sheet.figures_for("serviceability", x.state):
+            out += figure(fig, sheet, st)
+    out.append(para("Every node's displacement in every state is in csv/displacements.csv.", st, "small"))
     return out
 
 
@@ -611,7 +786,7 @@ def sizing(sheet: SheetSet, st: Styles) -> list:
     mass = s.mass
     out.append(key_value(st, [
         ("Stress limit σ", f"{fmt(s.stress_limit / u.factor('stress'), 'stress')} {ulabel(u, 'stress')}"),
-        ("States", ", ".join(s.over)),
+        ("States", design_states(sheet.analysis).note),
         ("Material volume (tension / compression)",
          f"{fmt(s.volume / vol, 'volume')} ({fmt(s.volume_tension / vol, 'volume')} / {fmt(s.volume_compression / vol, 'volume')}) {ulabel(u, 'volume')}"),
         ("Mass", "-" if mass is None else f"{fmt(mass / u.factor('mass'), 'load_path')} {ulabel(u, 'mass')}"),
@@ -661,6 +836,10 @@ def cautions(sheet: SheetSet, st: Styles) -> list:
                         "(see Member checks).")
     if len(sheet.checks.failing):
         specific.append(f"{len(sheet.checks.failing)} member(s) exceed a utilisation of 1.000 in the indicative checks.")
+    if sheet.outcome.uplift:
+        specific.append(f"Uplift at {len(sheet.outcome.uplift)} support(s): they must hold the frame down (see the cover).")
+    if sheet.serviceability.failing:
+        specific.append("Deflection over the limit in " + ", ".join(x.state for x in sheet.serviceability.failing) + ".")
     if a.determinacy.mechanisms:
         specific.append(f"The frame has {a.determinacy.mechanisms} mechanism(s); it carries the given loads only.")
     if specific:
@@ -679,6 +858,7 @@ SECTIONS: dict[str, Section] = {
     "envelope": envelope,
     "member_checks": member_checks,
     "sizing": sizing,
+    "serviceability": serviceability,
     "issued_files": issued_files,
     "cautions": cautions,
 }

@@ -36,7 +36,7 @@ else:  # pragma: no cover
 PAGE_SIZES = {"A4": A4, "A3": A3, "letter": letter}
 ORIENTATIONS = {"portrait": portrait, "landscape": landscape}
 SECTIONS = ("cover", "design_basis", "model", "determinacy", "states", "envelope", "member_checks", "sizing",
-            "issued_files", "cautions")
+            "serviceability", "issued_files", "cautions")
 STATE_PARTS = ("forces", "reactions", "checks", "form_forces", "force_diagram", "cells", "minkowski", "load_path")
 FIELDS = ("title", "number", "client", "calculation", "sheet", "revision", "date", "prepared_by", "checked_by",
           "status", "fingerprint")

@@ -7,6 +7,7 @@ each names the file, the key path, the line where known, and what to do.
 from __future__ import annotations
 
 import csv
+import datetime
 import difflib
 import hashlib
 import io
@@ -238,14 +239,41 @@ def _info(r: _Reader, data: dict) -> ProjectInfo:
         w = where + ("revisions", str(i))
         rev = r.table(rev, w)
         r.known_keys(rev, schema.REVISION, w)
-        revisions.append(Revision(r.text(rev, "revision", w, required=True), r.text(rev, "date", w, required=True), r.text(rev, "note", w)))
-    fields = {k: r.text(table, k, where) for k in schema.PROJECT if k not in ("revisions", "title", "template")}
+        revisions.append(Revision(r.text(rev, "revision", w, required=True), _calendar_date(r, rev, "date", w, required=True), r.text(rev, "note", w)))
+    fields = {k: r.text(table, k, where) for k in schema.PROJECT if k not in ("revisions", "title", "template", "date")}
+    fields["date"] = _calendar_date(r, table, "date", where)
     return ProjectInfo(
         title=r.text(table, "title", where, required=bool(table)),
         template=r.text(table, "template", where, "a4-portrait"),
         revisions=tuple(revisions),
         **fields,
     )
+
+
+_ISO_DATE = re.compile(r"\d{4}-\d{2}-\d{2}")
+_DATE_HINT = "write an ISO 8601 calendar date, year-month-day: date = 2026-03-02 (or \"2026-03-02\")"
+
+
+def _calendar_date(r: _Reader, table: dict, key: str, where: Path_, *, required: bool = False) -> str:
+    """An ISO 8601 calendar date (YYYY-MM-DD) as text: a TOML date, or a string of that form naming a
+    real day. Sheets and revision tables print it as given, so "3/2/26" would be read two ways."""
+    if key not in table or (table[key] == "" and not required):
+        if required:
+            r.problem(where, f"missing '{key}'", _DATE_HINT)
+        return ""
+    value = table[key]
+    if isinstance(value, datetime.datetime):  # a subclass of date: test it first
+        r.problem(where + (key,), f"expected a date alone, got the date and time {value.isoformat()}", _DATE_HINT)
+    elif isinstance(value, datetime.date):
+        return value.isoformat()
+    elif isinstance(value, str) and _ISO_DATE.fullmatch(value.strip()):
+        try:
+            return datetime.date.fromisoformat(value.strip()).isoformat()
+        except ValueError:
+            r.problem(where + (key,), f"{value!r} is not a day of the calendar", _DATE_HINT)
+    else:
+        r.problem(where + (key,), f"expected an ISO 8601 date (YYYY-MM-DD), got {value!r}", _DATE_HINT)
+    return ""
 
 
 def _materials(r: _Reader, data: dict, units: DisplayUnits) -> dict[str, Material]:

@@ -23,6 +23,7 @@ from sheets.analysis.equilibrium import project_equilibrium
 from sheets.export.atomic import write_atomic
 from sheets.export.results import write_results_csv, write_results_json
 from sheets.model import Project, load_project
+from sheets.render import DRAW_FORMATS
 
 Progress = Callable[[str], None]
 
@@ -203,7 +204,6 @@ def _publish(staging: Path, out: Path, pdf_name: str, fingerprint: str) -> tuple
 
 # -- force diagrams (`sheets draw`) ----------------------------------------------
 
-DRAW_FORMATS = ("png", "svg", "pdf")
 
 
 @dataclass(frozen=True)

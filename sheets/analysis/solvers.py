@@ -85,7 +85,7 @@ class FrameSolver:
         k = (self.a_free @ sp.diags(self._member_stiffness) @ self.a_free.T).tocsc()
         modes = self.det.mechanism_modes
         if modes.shape[1]:
-            scale = float(abs(k).max())
+            scale = float(abs(k).max()) or 1.0  # no member reaches a free node: any non-zero border will do
             border = sp.csc_matrix(modes * scale)
             k = sp.bmat([[k, border], [border.T, None]], format="csc")
         return spla.splu(k)

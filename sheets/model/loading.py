@@ -41,7 +41,7 @@ from sheets.model.project import (
     Section,
     frozen_array,
 )
-from sheets.model.units import KINDS, DisplayUnits, UnitProblem, parse_value, si_factor
+from sheets.model.units import KINDS, MAX_MAGNITUDE, DisplayUnits, UnitProblem, parse_value, si_factor
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -141,6 +141,9 @@ def load_project(path: str | Path) -> Project:
         line = int(found.group(1)) if found else None
         msg = str(exc)
         raise ProjectError([Problem(str(path), "", f"not valid TOML: {msg}", "fix the syntax at that line", line)])
+    except ValueError as exc:  # Python's own limit on integer digits, raised through tomllib
+        raise ProjectError([Problem(str(path), "", f"cannot read a value: {exc}", "an integer of thousands of digits "
+                                    "is surely a slip: write the number with an exponent, e.g. 1.5e3")])
     reader = _Reader(path, text)
     project = _build(reader, data)
     if reader.problems or project is None:
@@ -250,6 +253,17 @@ def _info(r: _Reader, data: dict) -> ProjectInfo:
     )
 
 
+def _plain_number(value: Any) -> float | None:
+    """A TOML number (no unit) as a float, or None: not a number, a boolean, NaN, infinite, or
+    beyond ±MAX_MAGNITUDE (an int too large for a float among them: float() would overflow)."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return None
+    if isinstance(value, int) and abs(value) > MAX_MAGNITUDE:
+        return None
+    number = float(value)
+    return number if math.isfinite(number) and abs(number) <= MAX_MAGNITUDE else None
+
+
 _ISO_DATE = re.compile(r"\d{4}-\d{2}-\d{2}")
 _DATE_HINT = "write an ISO 8601 calendar date, year-month-day: date = 2026-03-02 (or \"2026-03-02\")"
 
@@ -296,6 +310,7 @@ def _materials(r: _Reader, data: dict, units: DisplayUnits) -> dict[str, Materia
 def _sections(r: _Reader, data: dict, units: DisplayUnits, materials: dict) -> dict[str, Section]:
     out = {}
     kinds = {"area": "area", "second_moment": "second_moment", "axial_stiffness": "force"}
+    declared_materials = data["materials"] if isinstance(data.get("materials"), dict) else {}  # read, problems or not
     for sid, table in r.table(data.get("sections"), ("sections",)).items():
         w = ("sections", sid)
         table = r.table(table, w)
@@ -305,7 +320,10 @@ def _sections(r: _Reader, data: dict, units: DisplayUnits, materials: dict) -> d
             for key, kind in kinds.items()
         }
         material = table.get("material")
-        if material is not None and material not in materials and material not in r.table(data.get("materials"), ("materials",)):
+        if material is not None and not isinstance(material, str):
+            r.problem(w + ("material",), f"expected a material id, got {material!r}", 'e.g. material = "steel"')
+            material = None
+        elif material is not None and material not in materials and material not in declared_materials:
             near = difflib.get_close_matches(str(material), list(materials), n=1)
             r.problem(w + ("material",), f"unknown material '{material}'", f"did you mean '{near[0]}'?" if near else "define it under [materials]")
         if values["area"] is None and values["axial_stiffness"] is None and "area" not in table and "axial_stiffness" not in table:
@@ -326,9 +344,15 @@ def _csv_rows(r: _Reader, name: Any, where: Path_, columns: tuple[str, ...], opt
         r.problem(where, f"cannot read '{name}': {exc.strerror or exc}", "the path is relative to the project file")
         return
     r.hash.update(b"\0" + name.encode() + b"\0" + raw)
-    text = raw.decode("utf-8-sig", errors="replace")
+    text = _csv_text(r, raw, name, where, str(path))
+    if text is None:
+        return
     reader = csv.DictReader(io.StringIO(text))
-    header = [h.strip() for h in (reader.fieldnames or [])]
+    try:
+        header = [h.strip() for h in (reader.fieldnames or [])]
+    except csv.Error as exc:
+        r.problem(where, f"'{name}' cannot be read as CSV: {exc}", "check the quoting of the first line", file=str(path), line=1)
+        return
     reader.fieldnames = header
     missing = [c for c in columns if c not in header]
     if missing:
@@ -337,7 +361,16 @@ def _csv_rows(r: _Reader, name: Any, where: Path_, columns: tuple[str, ...], opt
     unknown = [c for c in header if c not in columns + optional]
     for c in unknown:
         r.problem(where, f"'{name}' has an unknown column '{c}'", f"allowed: {', '.join(columns + optional)}", file=str(path), line=1)
-    for row in reader:
+    rows = iter(reader)
+    while True:
+        try:
+            row = next(rows)
+        except StopIteration:
+            return
+        except csv.Error as exc:  # e.g. a field longer than the csv module's limit
+            r.problem(where, f"'{name}' cannot be read as CSV here: {exc}", "check the quoting on this line",
+                      file=str(path), line=reader.line_num)
+            return
         if not any((v or "").strip() for v in row.values() if isinstance(v, str)):
             continue
         if None in row or None in row.values():  # DictReader's marks for too many / too few values
@@ -345,6 +378,21 @@ def _csv_rows(r: _Reader, name: Any, where: Path_, columns: tuple[str, ...], opt
             r.problem(where, f"'{name}' has {count} values on this line, its header names {len(header)} columns",
                       f"give one value per column: {', '.join(header)}", file=str(path), line=reader.line_num)
         yield reader.line_num, str(path), {k: (v or "").strip() for k, v in row.items() if k is not None}
+
+
+def _csv_text(r: _Reader, raw: bytes, name: str, where: Path_, file: str) -> str | None:
+    """A CSV file's text, or None after a problem with its line: not UTF-8, or NUL characters
+    (a spreadsheet's binary file named in place of its CSV export, most often)."""
+    if b"\0" in raw:
+        r.problem(where, f"'{name}' holds NUL bytes: a binary file, not CSV text",
+                  "export it from the spreadsheet as CSV, UTF-8", file=file, line=raw[:raw.index(b"\0")].count(b"\n") + 1)
+        return None
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        r.problem(where, f"'{name}' is not UTF-8 text ({exc.reason} at byte {exc.start})",
+                  "export it from the spreadsheet as CSV, UTF-8", file=file, line=raw[:exc.start].count(b"\n") + 1)
+        return None
 
 
 def _coordinate_vector(r: _Reader, value: Any, dim: int, units: DisplayUnits, where: Path_, kind: str, file=None, line=None):
@@ -562,10 +610,10 @@ def _combinations(r: _Reader, data: dict, state_ids: set[str]) -> list[Combinati
             if case_id not in state_ids:
                 near = difflib.get_close_matches(case_id, sorted(state_ids), n=1)
                 r.problem(w + ("factors", case_id), f"combination '{cid}' names an unknown case '{case_id}'", f"did you mean '{near[0]}'?" if near else "use a case id from [cases]")
-            elif isinstance(f, bool) or not isinstance(f, (int, float)) or not math.isfinite(f):
-                r.problem(w + ("factors", case_id), f"factor must be a finite number, got {f!r}", f"e.g. {case_id} = 1.5")
+            elif _plain_number(f) is None:
+                r.problem(w + ("factors", case_id), f"factor must be a finite number within ±{MAX_MAGNITUDE:.0e}, got {f!r}", f"e.g. {case_id} = 1.5")
             else:
-                factors.append((case_id, float(f)))
+                factors.append((case_id, _plain_number(f)))
         out.append(Combination(cid, r.text(table, "title", w, cid), tuple(factors)))
     return out
 
@@ -628,8 +676,8 @@ def _drawing(r: _Reader, data: dict, dim: int, state_ids: set[str]) -> DrawingOp
     value = table.get("projection", name)
     if isinstance(value, str) and value in schema.NAMED_DIRECTIONS:
         projection, name = schema.NAMED_DIRECTIONS[value], value
-    elif isinstance(value, list) and len(value) == 3 and all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value) and any(value):
-        projection, name = tuple(float(v) for v in value), "custom"
+    elif isinstance(value, list) and len(value) == 3 and all(_plain_number(v) is not None for v in value) and any(value):
+        projection, name = tuple(_plain_number(v) for v in value), "custom"
     else:
         r.problem(w + ("projection",), f"projection must be one of {', '.join(schema.NAMED_DIRECTIONS)} or a direction [x, y, z], got {value!r}")
     views = table.get("views", list(defaults.views))
@@ -658,10 +706,10 @@ def _design(r: _Reader, data: dict, units: DisplayUnits) -> DesignOptions:
     values: dict[str, float | None] = {}
     for key in ("partial_factor", "effective_length_factor", "slenderness_limit", "tension_slenderness_limit"):
         v = table.get(key)
-        if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0):
+        if v is not None and (_plain_number(v) is None or v <= 0):
             r.problem(w + (key,), f"{key} must be a positive number, got {v!r}")
             v = None
-        values[key] = None if v is None else float(v)
+        values[key] = None if v is None else _plain_number(v)
     limit = None
     if "stress_limit" in table:
         limit = r.positive(r.quantity(table["stress_limit"], "stress", units, w + ("stress_limit",)), w + ("stress_limit",), "stress_limit")
@@ -692,8 +740,8 @@ def _polyhedral(r: _Reader, data: dict, node_index: dict, dim: int) -> Polyhedra
     for nid, h in r.table(table.get("heights"), w + ("heights",)).items():
         if nid not in node_index:
             r.problem(w + ("heights", nid), f"height for unknown node '{nid}'")
-        elif isinstance(h, bool) or not isinstance(h, (int, float)) or not math.isfinite(h):
-            r.problem(w + ("heights", nid), f"height must be a finite number, got {h!r}")
+        elif _plain_number(h) is None:
+            r.problem(w + ("heights", nid), f"height must be a finite number within ±{MAX_MAGNITUDE:.0e}, got {h!r}")
         else:
-            heights.append((nid, float(h)))
+            heights.append((nid, _plain_number(h)))
     return PolyhedralInput(tuple(cells), find, tuple(heights))

@@ -97,6 +97,9 @@ def parse_value(value: object, kind: str, display_unit: str) -> float:
     """A number (in ``display_unit``) or a string with a unit -> SI float."""
     if isinstance(value, bool):
         raise UnitProblem(f"expected a {kind.replace('_', ' ')}, got {value!r}")
+    if isinstance(value, int) and abs(value) > MAX_MAGNITUDE:  # float() of a huge int overflows
+        raise UnitProblem(f"an integer of {int(math.log10(abs(value))) + 1} digits is beyond the ±{MAX_MAGNITUDE:.0e} (SI) "
+                          "this tool accepts (a slip of unit or exponent?)")
     if isinstance(value, (int, float)):
         result = float(value) * si_factor(display_unit, kind)
     elif isinstance(value, str):
@@ -109,11 +112,12 @@ def parse_value(value: object, kind: str, display_unit: str) -> float:
             result = number * si_factor(display_unit, kind)
     else:
         raise UnitProblem(f"expected a number or a string with a unit for a {kind.replace('_', ' ')}, got {value!r}")
-    if not math.isfinite(result):
+    if math.isnan(result) or (math.isinf(result) and "inf" in str(value).lower()):
         raise UnitProblem(f"value {value!r} is not a finite number")
-    if abs(result) > MAX_MAGNITUDE:
-        raise UnitProblem(f"value {value!r} is {result:.3g} {KINDS[kind][0]}, beyond the {MAX_MAGNITUDE:.0e} this tool "
-                          "accepts (a slip of unit or exponent?)")
+    if not abs(result) <= MAX_MAGNITUDE:  # an overflow to infinity included
+        size = f"{result:.3g} {KINDS[kind][0]}, " if math.isfinite(result) else ""
+        raise UnitProblem(f"value {value!r} is {size}beyond the ±{MAX_MAGNITUDE:.0e} (SI) this tool accepts "
+                          "(a slip of unit or exponent?)")
     return result
 
 

@@ -22,7 +22,6 @@ from dataclasses import dataclass, replace
 import numpy as np
 import scipy.linalg as la
 import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 
 from sheets.analysis.equilibrium import Equilibrium
 
@@ -138,6 +137,8 @@ def left_null_space(b: sp.spmatrix, tolerance: float, largest: float, limit: int
     finds none. Each candidate is judged by |b^T v| on ``b`` itself, because forming b b^T leaves
     rounding of about 1e-16 largest^2, as large as the threshold tolerance^2 largest^2.
     """
+    import scipy.sparse.linalg as spla  # here, not at the top: `sheets check` of a small frame starts faster
+
     n = b.shape[0]
     shift = 1e-6 * largest**2
     lu = spla.splu((b @ b.T + shift * sp.identity(n, format="csc")).tocsc())
@@ -178,6 +179,8 @@ def left_null_space(b: sp.spmatrix, tolerance: float, largest: float, limit: int
 
 
 def _sparse(a_free: sp.spmatrix, common: dict) -> Determinacy:
+    import scipy.sparse.linalg as spla
+
     n_free, m = a_free.shape
     largest_eig = float(spla.eigsh((a_free @ a_free.T).tocsc(), k=1, which="LA", return_eigenvectors=False, tol=1e-6)[0])
     largest = float(np.sqrt(largest_eig))

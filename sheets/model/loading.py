@@ -19,11 +19,11 @@ from types import MappingProxyType
 from typing import Any, Callable
 
 import numpy as np
-from scipy.spatial import cKDTree
 
 from sheets.errors import Problem, ProjectError
 from sheets.model import schema
 from sheets.model.locate import KeyLines
+from sheets.model.nearby import close_pairs
 from sheets.model.project import (
     AXES,
     ROLES,
@@ -508,7 +508,7 @@ def _check_geometry(r: _Reader, node_ids, coords: np.ndarray, members):
         return
     extent = float(np.ptp(coords[readable], axis=0).max()) or 1.0
     tol = 1e-9 * extent
-    for a, b in sorted(cKDTree(coords[readable]).query_pairs(tol)):
+    for a, b in close_pairs(coords[readable], tol):
         i, j = readable[a], readable[b]
         file, line = r.csv_origin.get(("nodes", node_ids[j]), (None, None))
         r.problem(("nodes", node_ids[j]), f"node '{node_ids[j]}' coincides with node '{node_ids[i]}'", "merge them or move one", file=file, line=line)

@@ -135,7 +135,10 @@ def _parse_quantity(text: str, kind: str) -> float:
     si_unit = KINDS[kind][0]
     if not isinstance(q, pint.Quantity) or q.dimensionality != ureg.Quantity(1.0, si_unit).dimensionality:
         raise UnitProblem(f"{text!r} is not a {kind.replace('_', ' ')} (expected a unit like {KINDS[kind][1]})")
-    return float(q.to(si_unit).magnitude)
+    try:
+        return float(q.to(si_unit).magnitude)
+    except OverflowError:  # pint keeps a long integer as it is: "1000...0 furlong"
+        return math.inf  # parse_value refuses it as beyond the accepted magnitude
 
 
 @dataclass(frozen=True)

@@ -81,3 +81,11 @@ def test_an_integer_of_thousands_of_digits_is_a_problem_not_a_crash(tmp_path):
     text = broken("C = [3, 2]", "C = [" + "9" * 5000 + ", 2]")
     (p,) = problems(write(tmp_path, text))
     assert "digits" in p.message and p.file.endswith("project.toml")
+
+
+def test_a_long_integer_with_a_unit_pint_reads_is_beyond_the_limit_not_an_overflow(tmp_path):
+    # Found by the fuzzer: pint keeps "10...0 furlong" as a Python int, which float() cannot take
+    digits = "9" * 400
+    text = broken("C = [3, 2]", f'C = ["{digits} furlong", 2]')
+    p = only(problems(write(tmp_path, text)), where="nodes.C")
+    assert "beyond" in p.message

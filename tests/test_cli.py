@@ -202,3 +202,13 @@ def test_importing_the_command_line_loads_no_heavy_library():
 
 def test_check_of_a_demo_project_loads_no_drawing_unit_or_optimisation_library():
     assert _imported_after(f"from sheets import build\nbuild.check({str(WAREHOUSE)!r})") == set()
+
+
+def test_a_binary_file_given_as_the_project_exits_2_without_a_traceback(tmp_path):
+    # As a user runs it: a fresh interpreter, `python -m sheets check`, stderr as printed.
+    path = tmp_path / "drawing.toml"
+    path.write_bytes(b"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR" + bytes(range(256)))
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    done = subprocess.run([sys.executable, "-m", "sheets", "check", str(path)], capture_output=True, text=True, env=env, cwd=ROOT)
+    assert done.returncode == 2
+    assert "Traceback" not in done.stderr and "not UTF-8" in done.stderr and str(path) in done.stderr

@@ -53,14 +53,14 @@ edge = st.sampled_from([1e20, -1e20, 9.9e19, 1e-300, 5e-324, 1e-12, "1e20 m", "1
 # Mostly a sound number (so most files get past the loader into the analysis), now and then
 # a number at the limits, rarely anything at all.
 # (hypothesis favours the ends of a range, so a uniform choice comes from sampled_from)
-coordinate = st.sampled_from(["junk", "edge"] + ["sound"] * 58).flatmap(
+coordinate = st.sampled_from(["sound"] * 58 + ["junk", "edge"]).flatmap(
     lambda k: scalars if k == "junk" else edge if k == "edge" else st.floats(-3, 3))
 
 
 def sometimes(rare, usual):
     """``rare`` once in 40 draws, else ``usual``: a file draws some 20 values, so about half
     of the files are sound but for the mutations below, and reach the analysis."""
-    return st.sampled_from([True] + [False] * 39).flatmap(lambda odd: rare if odd else usual)
+    return st.sampled_from([False] * 39 + [True]).flatmap(lambda odd: rare if odd else usual)  # shrinks to usual
 
 
 def place(k: int, offset):
@@ -133,6 +133,8 @@ def frames(draw) -> tuple[dict, dict[str, bytes]]:
     doc = {
         "project": {"title": draw(texts), "date": draw(sometimes(scalars, st.sampled_from(["2026-03-02", datetime.date(2026, 3, 2)]))),
                     "template": draw(sometimes(st.sampled_from(["a4-portrat", "x/none.toml", 7]), st.sampled_from(["a4-portrait", "a3-landscape"])))},
+        "units": {"force": draw(sometimes(st.sampled_from(["lbf", "m", 3, "kip"]), st.sampled_from(["kN", "N"]))),
+                  "length": draw(sometimes(st.sampled_from(["ft", "furlong", "s", ""]), st.sampled_from(["m", "mm"])))},
         "geometry": {"dimension": dim},
         "materials": {"steel": {"elastic_modulus": draw(sometimes(scalars, st.sampled_from(["210 GPa", 210000]))),
                                 "density": draw(st.sampled_from([7850, "7850 kg/m^3"]))}},
@@ -155,10 +157,16 @@ def frames(draw) -> tuple[dict, dict[str, bytes]]:
         doc["prestress"] = draw(st.sampled_from([{"method": "feasible", "level": "5 kN"}, {"method": "scaled", "member": "m0", "force": "1e20 N"}]))
     files: dict[str, bytes] = {}
     if draw(st.integers(0, 3)) == 0:  # more nodes from a CSV file: rows, or random bytes
-        rows = [",".join(["id", *axes])] + [f"{nid}{k}," + ",".join(str(draw(coordinate)).replace(",", ";") for _ in axes) for k, nid in enumerate(ids[:2])]
+        rows = [",".join(["id", *axes])] + [f"{nid}{k}," + ",".join(str(place(n + k, (a, draw(coordinate)))).replace(",", ";") for a in range(dim))
+                                            for k, nid in enumerate(ids[:2])]
         files["nodes.csv"] = draw(sometimes(st.one_of(st.binary(max_size=60), st.sampled_from([b"id,x,y\nQ,\x00,1\n", b"id,x,y\nQ,\xff\xfe,1\n"])),
                                             st.just("\n".join(rows).encode())))
         doc["geometry"]["nodes_file"] = "nodes.csv"
+    if "nodes.csv" in files and draw(st.integers(0, 1)) == 0:  # a member joining the CSV's nodes, from a CSV file
+        role = draw(sometimes(st.sampled_from(["rope", "", "strut"]), st.just("bar")))
+        text = f"id,start,end,role\nk1,{ids[0]}0,{ids[1]}1,{role}\n"
+        files["members.csv"] = draw(sometimes(st.binary(max_size=60), st.just(text.encode())))
+        doc["geometry"]["members_file"] = "members.csv"
     if doc["cases"] and draw(st.integers(0, 3)) == 0:  # a load case from a CSV file
         row = ",".join(str(draw(coordinate)).replace(",", ";") for _ in axes)
         files["loads.csv"] = draw(sometimes(st.binary(max_size=60), st.just(f"node,{','.join('f' + a for a in axes)}\n{ids[0]},{row}\n".encode())))
@@ -191,15 +199,17 @@ def mutated(draw):
             parent[draw(st.sampled_from(["extra", "Title", "node", "loads"]))] = draw(junk)
         else:
             parent[path[-1]] = {}
-    return doc, files
+    # now and then a line of text at the end: a syntax error, or a key given twice
+    tail = draw(sometimes(st.sampled_from(["oops\n", "[nodes]\n", "nodes = 1\n", "[project]\ntitle = 'x'\n"]), st.just("")))
+    return doc, files, tail
 
 
-def _write(doc: dict, files: dict[str, bytes]) -> Path:
+def _write(doc: dict, files: dict[str, bytes], tail: str = "") -> Path:
     folder = Path(tempfile.mkdtemp(prefix="sheets-fuzz-"))
     for name, data in files.items():
         (folder / name).write_bytes(data)
     path = folder / "fuzz.toml"
-    path.write_text(to_toml(doc), encoding="utf-8")
+    path.write_text(to_toml(doc) + tail, encoding="utf-8")
     return path
 
 

@@ -205,7 +205,6 @@ def _publish(staging: Path, out: Path, pdf_name: str, fingerprint: str) -> tuple
 # -- force diagrams (`sheets draw`) ----------------------------------------------
 
 
-
 @dataclass(frozen=True)
 class DrawnState:
     state_id: str

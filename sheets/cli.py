@@ -194,7 +194,7 @@ def _solve(args) -> int:
         analysis = build.solve(args.project, note)
         written = build.write_results(analysis, args.json, args.csv)
     p = analysis.project
-    out.print(f"[bold]{p.info.title}[/bold]  ({p.dim}D, {p.n_nodes} nodes, {p.n_members} members)")
+    out.print(f"[bold]{escape(p.info.title)}[/bold]  ({p.dim}D, {p.n_nodes} nodes, {p.n_members} members)")
     out.print(_determinacy_table(analysis.determinacy))
     if not args.quiet:
         for state in analysis.states:
@@ -203,7 +203,7 @@ def _solve(args) -> int:
                 out.print(_reactions_table(analysis, state))
     out.print(_checks_table(analysis))
     for path in written:
-        out.print(f"wrote {path}")
+        out.print(f"wrote {path}", markup=False)
     if not analysis.passed:
         err.print("[red]A verification check failed: the results are written but must not be used as they stand.[/red]")
         return EXIT_CHECK_FAILED
@@ -223,7 +223,7 @@ def _build(args) -> int:
 
         result = build.build_sheets(args.project, args.out, note)
         bar.update(task, completed=len(stages))
-    out.print(f"wrote {result.pdf}")
+    out.print(f"wrote {result.pdf}", markup=False)
     out.print(f"  and {len(result.files) - 1} more files beside it (results.json, csv/, figures/, manifest.json)")
     if not result.passed:
         err.print("[red]A verification check failed: the sheets say so and must not be used as they stand.[/red]")

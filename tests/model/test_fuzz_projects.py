@@ -8,8 +8,8 @@ frame, or random bytes), then runs what the command line runs:
 - load_project: a Project, or a ProjectError whose every problem names a file and says what to do;
 - build.check, and on the examples it accepts, analyse (the `solve` path): nothing but
   ProjectError or MechanismError;
-- `sheets check` through sheets.cli.main: exit 0, 2 or 3, never 1 (the last-resort handler
-  for bugs), and no traceback on stderr.
+- `sheets check` (and `sheets solve` where the file loads) through sheets.cli.main: exit 0, 2
+  or 3, never 1 (the last-resort handler for bugs), and no traceback on stderr.
 """
 
 from __future__ import annotations
@@ -42,7 +42,7 @@ numbers = st.one_of(
 texts = st.one_of(
     st.text(st.characters(codec="utf-8", exclude_categories=("Cs",)), max_size=12),
     st.builds(lambda x, u: f"{x} {u}", numbers, st.sampled_from(UNIT_TEXTS)),
-    st.sampled_from(["nan kN", "-inf m", "1e400 mm", "1e308 m", "12 kN", "2026-03-02", "2026-02-30", ":100:", "[x]"]),
+    st.sampled_from(["nan kN", "-inf m", "1e400 mm", "1e308 m", "12 kN", "2026-03-02", "2026-02-30", ":100:", "[x]", "[/b] rev"]),
 )
 dates = st.dates(min_value=datetime.date(1, 1, 1)) | st.datetimes().map(lambda d: d.replace(microsecond=0))
 scalars = st.one_of(numbers, texts, st.booleans(), dates)
@@ -236,11 +236,13 @@ def test_any_project_file_gives_a_result_or_a_clear_error(example):
             _assert_reported(exc)
         except MechanismError as exc:
             assert str(exc) and exc.state_id
-    err = io.StringIO()
-    with contextlib.redirect_stderr(err), contextlib.redirect_stdout(io.StringIO()):
-        code = main(["check", str(path)])
-    assert code in (0, 2, 3), err.getvalue()
-    assert "Traceback" not in err.getvalue() and "internal error" not in err.getvalue()
+    commands = [["check", str(path)]] + ([["solve", str(path), "--quiet"]] if project is not None else [])
+    for command in commands:  # solve prints the user's ids and titles in its tables
+        err = io.StringIO()
+        with contextlib.redirect_stderr(err), contextlib.redirect_stdout(io.StringIO()):
+            code = main(command)
+        assert code in (0, 2, 3), err.getvalue()
+        assert "Traceback" not in err.getvalue() and "internal error" not in err.getvalue()
 
 
 def test_the_writer_round_trips_through_the_reader():

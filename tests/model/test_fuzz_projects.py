@@ -48,7 +48,7 @@ dates = st.dates(min_value=datetime.date(1, 1, 1)) | st.datetimes().map(lambda d
 scalars = st.one_of(numbers, texts, st.booleans(), dates)
 junk = st.recursive(scalars, lambda inner: st.lists(inner, max_size=4) | st.dictionaries(st.sampled_from(NODE_IDS + ["x", "title"]), inner, max_size=3), max_leaves=6)
 # Values the loader accepts but that push the analysis to its limits: the largest and smallest
-# magnitudes allowed (1e20 SI), subnormal numbers, a node 1e-12 m from another.
+# magnitudes allowed (1e20 SI), subnormal numbers, offsets of 1e-12 m.
 edge = st.sampled_from([1e20, -1e20, 9.9e19, 1e-300, 5e-324, 1e-12, "1e20 m", "1e-300 mm"])
 # Mostly a sound number (so most files get past the loader into the analysis), now and then
 # a number at the limits, rarely anything at all.
@@ -157,7 +157,7 @@ def frames(draw) -> tuple[dict, dict[str, bytes]]:
         doc["prestress"] = draw(st.sampled_from([{"method": "feasible", "level": "5 kN"}, {"method": "scaled", "member": "m0", "force": "1e20 N"}]))
     files: dict[str, bytes] = {}
     if draw(st.integers(0, 3)) == 0:  # more nodes from a CSV file: rows, or random bytes
-        rows = [",".join(["id", *axes])] + [f"{nid}{k}," + ",".join(str(place(n + k, (a, draw(coordinate)))).replace(",", ";") for a in range(dim))
+        rows = [",".join(["id", *axes])] + [draw(sometimes(st.just(nid), st.just(f"{nid}{k}"))) + "," + ",".join(str(place(n + k, (a, draw(coordinate)))).replace(",", ";") for a in range(dim))
                                             for k, nid in enumerate(ids[:2])]
         files["nodes.csv"] = draw(sometimes(st.one_of(st.binary(max_size=60), st.sampled_from([b"id,x,y\nQ,\x00,1\n", b"id,x,y\nQ,\xff\xfe,1\n"])),
                                             st.just("\n".join(rows).encode())))

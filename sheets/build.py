@@ -17,20 +17,39 @@ from pathlib import Path
 from typing import Any, Callable
 
 from sheets.analysis import Analysis, analyse
+from sheets.analysis.analyse import refuse_before_solving
 from sheets.analysis.determinacy import Determinacy, determinacy
 from sheets.analysis.equilibrium import project_equilibrium
 from sheets.export.atomic import write_atomic
 from sheets.export.results import write_results_csv, write_results_json
 from sheets.model import Project, load_project
+from sheets.render import DRAW_FORMATS
 
 Progress = Callable[[str], None]
 
 
 def check(path: str | Path) -> tuple[Project, Determinacy]:
-    """Load and validate a project and find its determinacy, without solving any case."""
+    """Everything `build` would refuse, short of solving and drawing: the project file, its template,
+    a missing stiffness or prestress, and every case that pushes the frame along a mechanism.
+
+    Raises ProjectError (exit 2) or MechanismError (exit 3) as `solve` and `build` do.
+    """
     project = load_project(path)
-    det = determinacy(project_equilibrium(project), project.options.rank_tolerance, project.options.dense_limit)
+    check_template(project, Path(path).parent)
+    eq = project_equilibrium(project)
+    det = determinacy(eq, project.options.rank_tolerance, project.options.dense_limit)
+    refuse_before_solving(project, eq, det)
     return project, det
+
+
+def check_template(project: Project, project_dir: Path) -> None:
+    """Find the project's template as `build` does; read it in full only where it is the user's own
+    file (the shipped ones are read by the test suite, and reading one costs the PDF libraries)."""
+    from sheets.report.templates import builtin_folder, find_template, load_template
+
+    found = find_template(project.info.template, project_dir, project.source)
+    if found.parent != builtin_folder():
+        load_template(project.info.template, project_dir, project.source)
 
 
 def solve(path: str | Path, progress: Progress | None = None) -> Analysis:
@@ -202,8 +221,6 @@ def _publish(staging: Path, out: Path, pdf_name: str, fingerprint: str) -> tuple
 
 
 # -- force diagrams (`sheets draw`) ----------------------------------------------
-
-DRAW_FORMATS = ("png", "svg", "pdf")
 
 
 @dataclass(frozen=True)

@@ -3,28 +3,53 @@
 Exit codes (DESIGN.md): 0 success, 2 bad input, 3 the frame cannot carry the
 loads (mechanism), 4 a verification check failed, 5 the results are written but
 the design outcome has flags (members over utilisation 1, cables in compression,
-struts in tension, uplift at supports, deflection over the limit); 4 wins over 5.
+struts in tension, uplift at supports, deflection over the limit); 4 wins over 5;
+1 an internal error (a bug: one line on stderr asking for a report, the traceback
+only with SHEETS_DEBUG=1).
+
+What the user wrote (titles, ids, file paths, messages quoting the file) is
+printed literally: the consoles never turn ``:100:`` into an emoji, and such
+text is printed with markup off (or escaped) so ``[x]`` stays ``[x]``.
 """
 
 from __future__ import annotations
 
 import argparse
+import importlib
+import os
 import sys
 from contextlib import contextmanager
 from typing import Iterator, Sequence
 
-import numpy as np
 from rich.console import Console
+from rich.markup import escape
 from rich.progress import BarColumn, Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from sheets import __version__, build
+from sheets import __version__
 from sheets.errors import EXIT_CHECK_FAILED, EXIT_DESIGN_FLAGS, EXIT_OK, MechanismError, ProjectError
+from sheets.render import DRAW_FORMATS
+
+
+class _OnFirstUse:
+    """A module imported when one of its names is first used: `sheets --version` and `--help`
+    then start without numpy and scipy (bench/bench_startup.py measures it)."""
+
+    def __init__(self, name: str):
+        self._name = name
+
+    def __getattr__(self, attr: str):
+        return getattr(importlib.import_module(self._name), attr)
+
+
+build = _OnFirstUse("sheets.build")
+np = _OnFirstUse("numpy")
 
 TOP_N = 25  # rows shown per table on screen; the CSV files carry all of them
 
-out = Console(highlight=False)
-err = Console(stderr=True, highlight=False)
+out = Console(highlight=False, emoji=False)
+err = Console(stderr=True, highlight=False, emoji=False)
+EXIT_INTERNAL = 1  # a bug in sheets, not in the input
 
 
 def _fixed(value: float, digits: int = 3) -> str:
@@ -56,7 +81,7 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--case", metavar="ID", action="append", dest="cases",
                    help="a case or combination to draw (repeat for more; default: [drawing] states, else all)")
     p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>/diagrams/)")
-    p.add_argument("--format", choices=build.DRAW_FORMATS, default="png", help="figure format (default png)")
+    p.add_argument("--format", choices=DRAW_FORMATS, default="png", help="figure format (default png)")
     p.add_argument("--dxf", action="store_true", help="also write each diagram as a DXF drawing")
     p.add_argument("--diagram-json", action="store_true", help="also write each diagram as JSON (schema sheets.diagram/1)")
     p.add_argument("--cells", action="store_true",
@@ -110,12 +135,12 @@ def _determinacy_table(det) -> Table:
 
 def _check(args) -> int:
     project, det = build.check(args.project)
-    out.print(f"[bold]{project.info.title}[/bold]  ({project.dim}D, {project.n_nodes} nodes, {project.n_members} members, "
+    out.print(f"[bold]{escape(project.info.title)}[/bold]  ({project.dim}D, {project.n_nodes} nodes, {project.n_members} members, "
               f"{len(project.cases)} cases, {len(project.combinations)} combinations)")
     out.print(_determinacy_table(det))
     out.print(f"The frame is {det.classification}.")
     if det.mechanisms:
-        out.print("[yellow]Loads with a component along a mechanism will be refused by `sheets solve`.[/yellow]")
+        out.print("No load case has a component along a mechanism: `sheets solve` and `sheets build` will carry them.")
     return EXIT_OK
 
 
@@ -126,16 +151,16 @@ def _forces_table(analysis, state) -> Table:
     order = np.argsort(-np.abs(state.forces), kind="stable")
     shown = order[:TOP_N]
     extra = f" (largest {TOP_N} of {p.n_members}; all in the CSV files)" if p.n_members > TOP_N else ""
-    t = Table(title=f"{state.kind} {state.id}: {state.title}{extra}")
+    t = Table(title=escape(f"{state.kind} {state.id}: {state.title}{extra}"))
     t.add_column("member")
     t.add_column("nodes")
-    t.add_column(f"force [{u.label('force')}]", justify="right")
+    t.add_column(escape(f"force [{u.label('force')}]"), justify="right")
     t.add_column("sense")
     for e in shown:
         a, b = p.ends[e]
         val = state.forces[e] / f
         sense = "tension" if val > 1e-9 * max(1.0, abs(val)) else "compression" if val < -1e-9 * max(1.0, abs(val)) else "zero"
-        t.add_row(p.member_ids[e], f"{p.node_ids[a]}-{p.node_ids[b]}", _fixed(val), sense)
+        t.add_row(escape(p.member_ids[e]), escape(f"{p.node_ids[a]}-{p.node_ids[b]}"), _fixed(val), sense)
     return t
 
 
@@ -143,13 +168,13 @@ def _reactions_table(analysis, state) -> Table:
     p = analysis.project
     u = p.units
     f = u.factor("force")
-    t = Table(title=f"Reactions, {state.id} [{u.label('force')}]")
+    t = Table(title=escape(f"Reactions, {state.id} [{u.label('force')}]"))
     t.add_column("node")
     for axis in p.axes:
         t.add_column(axis, justify="right")
     supported = np.flatnonzero(p.fixed.any(axis=1))
     for n in supported[:TOP_N]:
-        t.add_row(p.node_ids[n], *[_fixed(state.reactions[n, a] / f) if p.fixed[n, a] else "free" for a in range(p.dim)])
+        t.add_row(escape(p.node_ids[n]), *[_fixed(state.reactions[n, a] / f) if p.fixed[n, a] else "free" for a in range(p.dim)])
     return t
 
 
@@ -157,11 +182,11 @@ def _checks_table(analysis) -> Table:
     p = analysis.project
     t = Table(title="Verification of every state")
     for col in ("state", "method", "nodal residual", "resultant", "moment", f"load path [{p.units.label('load_path')}]", "load path error", "result"):
-        t.add_column(col, justify="left" if col in ("state", "method", "result") else "right")
+        t.add_column(escape(col), justify="left" if col in ("state", "method", "result") else "right")
     lp = p.units.factor("load_path")
     for s in analysis.states:
         c = s.checks
-        t.add_row(s.id, s.method, f"{c.residual:.1e}", f"{c.resultant:.1e}", f"{c.moment:.1e}",
+        t.add_row(escape(s.id), s.method, f"{c.residual:.1e}", f"{c.resultant:.1e}", f"{c.moment:.1e}",
                   _fixed(analysis.load_path(s) / lp), f"{c.load_path_error:.1e}",
                   "[green]pass[/green]" if c.passed else "[red]FAIL[/red]")
     return t
@@ -172,7 +197,7 @@ def _solve(args) -> int:
         analysis = build.solve(args.project, note)
         written = build.write_results(analysis, args.json, args.csv)
     p = analysis.project
-    out.print(f"[bold]{p.info.title}[/bold]  ({p.dim}D, {p.n_nodes} nodes, {p.n_members} members)")
+    out.print(f"[bold]{escape(p.info.title)}[/bold]  ({p.dim}D, {p.n_nodes} nodes, {p.n_members} members)")
     out.print(_determinacy_table(analysis.determinacy))
     if not args.quiet:
         for state in analysis.states:
@@ -183,7 +208,7 @@ def _solve(args) -> int:
     outcome = build.design_outcome_of(analysis)
     _print_outcome(outcome, p.units)
     for path in written:
-        out.print(f"wrote {path}")
+        out.print(f"wrote {path}", markup=False)
     if not analysis.passed:
         err.print("[red]A verification check failed: the results are written but must not be used as they stand.[/red]")
         return EXIT_CHECK_FAILED
@@ -211,7 +236,7 @@ def _build(args) -> int:
 
         result = build.build_sheets(args.project, args.out, note)
         bar.update(task, completed=len(stages))
-    out.print(f"wrote {result.pdf}")
+    out.print(f"wrote {result.pdf}", markup=False)
     out.print(f"  and {len(result.files) - 1} more files beside it (results.json, csv/, figures/, manifest.json)")
     if result.outcome is not None:
         _print_outcome(result.outcome, result.outcome_units)
@@ -234,7 +259,7 @@ def _draw(args) -> int:
     for col in ("state", "edges", "spaces", "crossings", "largest edge error", "load line", "result"):
         t.add_column(col, justify="left" if col in ("state", "result") else "right")
     for s in result.states:
-        t.add_row(s.state_id, str(s.edges), str(s.spaces), str(s.crossings), f"{s.closure_error:.1e}",
+        t.add_row(escape(s.state_id), str(s.edges), str(s.spaces), str(s.crossings), f"{s.closure_error:.1e}",
                   f"{s.load_line_error:.1e}", "[green]closes[/green]" if s.passed else "[red]DOES NOT CLOSE[/red]")
     out.print(t)
     if result.states:
@@ -254,12 +279,18 @@ def main(argv: Sequence[str] | None = None) -> int:
     except ProjectError as exc:
         err.print(f"[red]The project has {len(exc.problems)} problem{'s' if len(exc.problems) != 1 else ''}:[/red]")
         for problem in exc.problems:
-            err.print(f"  {problem}", markup=False)
+            err.print(f"  {problem}", markup=False, soft_wrap=True)  # no breaks inside a path:line
         return exc.exit_code
     except MechanismError as exc:
         err.print("[red]The frame cannot carry the loads.[/red]")
-        err.print(f"  {exc}", markup=False)
+        err.print(f"  {exc}", markup=False, soft_wrap=True)
         return exc.exit_code
+    except Exception as exc:  # last resort for a bug: bad input has its own errors above, never this
+        if os.environ.get("SHEETS_DEBUG") == "1":
+            raise
+        err.print(f"internal error ({type(exc).__name__}: {exc}); please report it with the project file "
+                  "(SHEETS_DEBUG=1 shows the traceback)", markup=False, soft_wrap=True)
+        return EXIT_INTERNAL
 
 
 if __name__ == "__main__":

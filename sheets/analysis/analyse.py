@@ -101,13 +101,45 @@ def _refuse_mechanism(project: Project, det: Determinacy, eq: Equilibrium, state
         if abs(mode[i]) > 1e-3
     )
     shown = ", ".join(f"{n} {'+' if v > 0 else '-'}{a}" for n, a, v in motions)
+    remedy = ("The frame has no supports at all: fix its rigid-body motions under [supports]."
+              if not project.fixed.any() else "Add members or supports that stop this motion.")
     raise MechanismError(
         state_id,
         f"state '{state_id}' pushes the frame along a mechanism ({det.mechanisms} in all; "
-        f"{np.linalg.norm(along) / norm:.1%} of the load): largest motions {shown}. "
-        "Add members or supports that stop this motion.",
+        f"{np.linalg.norm(along) / norm:.1%} of the load): largest motions {shown}. {remedy}",
         motions,
     )
+
+
+def case_loads(project: Project, case: LoadCase) -> np.ndarray:
+    """A case's nodal loads (n, dim) in N, its self-weight included."""
+    loads = np.array(case.loads)
+    if case.self_weight:
+        loads = loads + self_weight_loads(project, case)
+    return loads
+
+
+def refuse_before_solving(project: Project, eq: Equilibrium, det: Determinacy) -> None:
+    """Everything `analyse` would refuse, found without solving a case (so `sheets check` can say it).
+
+    Raises ProjectError for a missing axial stiffness or a prestress that cannot be made (exit 2),
+    then MechanismError for the cases that push the frame along a mechanism: all of them in one
+    message, each worded as `analyse` words it (exit 3). Combinations are sums of cases, so a
+    combination is refused only through one of its cases, as in `analyse`.
+    """
+    if det.self_stress > 0 or project.options.method == "elastic":
+        _ea_or_error(project)
+    if project.prestress is not None:
+        prestress_forces(project, self_stress_basis(eq.free_matrix, det), eq.lengths)
+    refused = []
+    for case in project.cases:
+        try:
+            _refuse_mechanism(project, det, eq, case.id, case_loads(project, case).reshape(-1)[eq.free])
+        except MechanismError as exc:
+            refused.append(exc)
+    if refused:
+        first = refused[0]
+        raise MechanismError(first.state_id, "\n  ".join(str(e) for e in refused), first.motions)
 
 
 def _ea_or_error(project: Project) -> np.ndarray:
@@ -145,9 +177,7 @@ def analyse(project: Project, progress: Progress | None = None) -> Analysis:
     cases = []
     for case in project.cases:
         note(f"case {case.id}")
-        loads = np.array(case.loads)
-        if case.self_weight:
-            loads = loads + self_weight_loads(project, case)
+        loads = case_loads(project, case)
         p_free = loads.reshape(-1)[eq.free]
         _refuse_mechanism(project, det, eq, case.id, p_free)
         sol = solver.solve(p_free)

@@ -20,9 +20,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 import numpy as np
-import scipy.linalg as la
 import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 
 from sheets.analysis.equilibrium import Equilibrium
 
@@ -110,9 +108,11 @@ def _dense(a_free: sp.spmatrix, common: dict) -> Determinacy:
         return Determinacy(rank=0, largest_singular=0.0, smallest_kept_singular=0.0, route="dense SVD",
                            mechanism_modes=_frozen(np.eye(n_free)), self_stress_basis=_frozen(np.eye(m)), **common)
     dense = a_free.toarray()
-    try:  # divide and conquer: about 10x faster than gesvd at 1,500 x 1,500 here
-        u, sigma, vt = la.svd(dense, full_matrices=True, lapack_driver="gesdd")
-    except la.LinAlgError:  # gesdd rarely fails to converge; gesvd is slower but sturdier
+    try:  # LAPACK gesdd, divide and conquer: about 10x faster than gesvd at 1,500 x 1,500 here
+        u, sigma, vt = np.linalg.svd(dense, full_matrices=True)
+    except np.linalg.LinAlgError:  # gesdd rarely fails to converge; gesvd is slower but sturdier
+        import scipy.linalg as la  # only then: scipy.linalg costs `sheets check` a tenth of its start
+
         u, sigma, vt = la.svd(dense, full_matrices=True, lapack_driver="gesvd")
     smax = sigma[0]
     rank = int((sigma > common["tolerance"] * smax).sum())
@@ -138,6 +138,8 @@ def left_null_space(b: sp.spmatrix, tolerance: float, largest: float, limit: int
     finds none. Each candidate is judged by |b^T v| on ``b`` itself, because forming b b^T leaves
     rounding of about 1e-16 largest^2, as large as the threshold tolerance^2 largest^2.
     """
+    import scipy.sparse.linalg as spla  # here, not at the top: `sheets check` of a small frame starts faster
+
     n = b.shape[0]
     shift = 1e-6 * largest**2
     lu = spla.splu((b @ b.T + shift * sp.identity(n, format="csc")).tocsc())
@@ -178,6 +180,8 @@ def left_null_space(b: sp.spmatrix, tolerance: float, largest: float, limit: int
 
 
 def _sparse(a_free: sp.spmatrix, common: dict) -> Determinacy:
+    import scipy.sparse.linalg as spla
+
     n_free, m = a_free.shape
     largest_eig = float(spla.eigsh((a_free @ a_free.T).tocsc(), k=1, which="LA", return_eigenvectors=False, tol=1e-6)[0])
     largest = float(np.sqrt(largest_eig))

@@ -19,7 +19,6 @@ from functools import cached_property
 
 import numpy as np
 import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 
 from sheets.analysis.determinacy import Determinacy
 from sheets.analysis.equilibrium import Equilibrium
@@ -66,6 +65,8 @@ class FrameSolver:
     # -- equilibrium alone -------------------------------------------------
     @cached_property
     def _equilibrium_lu(self):
+        import scipy.sparse.linalg as spla  # here, not at the top: `sheets check` never solves
+
         if self.det.mechanisms == 0:
             return spla.splu(self.a_free.tocsc())
         return spla.splu((self.a_free.T @ self.a_free).tocsc())
@@ -82,10 +83,12 @@ class FrameSolver:
 
     @cached_property
     def _stiffness_lu(self):
+        import scipy.sparse.linalg as spla
+
         k = (self.a_free @ sp.diags(self._member_stiffness) @ self.a_free.T).tocsc()
         modes = self.det.mechanism_modes
         if modes.shape[1]:
-            scale = float(abs(k).max())
+            scale = float(abs(k).max()) or 1.0  # no member reaches a free node: any non-zero border will do
             border = sp.csc_matrix(modes * scale)
             k = sp.bmat([[k, border], [border.T, None]], format="csc")
         return spla.splu(k)

@@ -3,7 +3,7 @@
 A state is one set of external loads with the member forces, reactions and (where
 computed) displacements that carry it. Every state carries its own checks:
 
-- nodal residual: the largest |A_free t - p_free| over the largest force;
+- nodal residual: the largest |A t - (p + r)| over the largest member force, load or reaction;
 - global equilibrium: resultant force and moment of loads plus reactions;
 - Maxwell's load path theorem, sum_e t_e L_e = sum_i f_i . x_i with reactions
   counted as loads (Maxwell 1870, "On reciprocal figures, frames, and diagrams
@@ -62,7 +62,11 @@ def reactions_for(eq: Equilibrium, forces: np.ndarray, loads: np.ndarray) -> np.
 
 def check_state(eq: Equilibrium, coords: np.ndarray, forces: np.ndarray, loads: np.ndarray, reactions: np.ndarray, tolerance: float) -> Checks:
     external = loads + reactions
-    scale = max(float(np.abs(forces).max(initial=0.0)), float(np.abs(external).max(initial=0.0)), 1e-300)
+    # Loads and reactions count apart in the scale: a load on a support node cancels against its
+    # reaction, leaving a rounding of its own size that must not be judged against the (perhaps
+    # far smaller) member forces.
+    gross = np.abs(loads) + np.abs(reactions)
+    scale = max(float(np.abs(forces).max(initial=0.0)), float(gross.max(initial=0.0)), 1e-300)
     residual_vec = (eq.matrix @ forces - external.reshape(-1))
     residual = float(np.abs(residual_vec).max(initial=0.0)) / scale
     resultant = float(np.linalg.norm(external.sum(axis=0))) / scale
@@ -77,7 +81,7 @@ def check_state(eq: Equilibrium, coords: np.ndarray, forces: np.ndarray, loads: 
     lengths = eq.lengths
     members_side = float(forces @ lengths)
     loads_side = float(np.sum(external * coords))
-    magnitude = max(float(np.abs(forces) @ lengths), float(np.abs(external * coords).sum()), 1e-300)
+    magnitude = max(float(np.abs(forces) @ lengths), float((gross * np.abs(coords)).sum()), 1e-300)
     return Checks(
         residual=residual,
         resultant=resultant,

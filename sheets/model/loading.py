@@ -7,6 +7,7 @@ each names the file, the key path, the line where known, and what to do.
 from __future__ import annotations
 
 import csv
+import datetime
 import difflib
 import hashlib
 import io
@@ -18,11 +19,11 @@ from types import MappingProxyType
 from typing import Any, Callable
 
 import numpy as np
-from scipy.spatial import cKDTree
 
 from sheets.errors import Problem, ProjectError
 from sheets.model import schema
 from sheets.model.locate import KeyLines
+from sheets.model.nearby import close_pairs
 from sheets.model.project import (
     AXES,
     ROLES,
@@ -40,7 +41,7 @@ from sheets.model.project import (
     Section,
     frozen_array,
 )
-from sheets.model.units import KINDS, DisplayUnits, UnitProblem, parse_value, si_factor
+from sheets.model.units import KINDS, MAX_MAGNITUDE, DisplayUnits, UnitProblem, parse_value, si_factor
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -140,6 +141,9 @@ def load_project(path: str | Path) -> Project:
         line = int(found.group(1)) if found else None
         msg = str(exc)
         raise ProjectError([Problem(str(path), "", f"not valid TOML: {msg}", "fix the syntax at that line", line)])
+    except ValueError as exc:  # Python's own limit on integer digits, raised through tomllib
+        raise ProjectError([Problem(str(path), "", f"cannot read a value: {exc}", "an integer of thousands of digits "
+                                    "is surely a slip: write the number with an exponent, e.g. 1.5e3")])
     reader = _Reader(path, text)
     project = _build(reader, data)
     if reader.problems or project is None:
@@ -239,14 +243,52 @@ def _info(r: _Reader, data: dict) -> ProjectInfo:
         w = where + ("revisions", str(i))
         rev = r.table(rev, w)
         r.known_keys(rev, schema.REVISION, w)
-        revisions.append(Revision(r.text(rev, "revision", w, required=True), r.text(rev, "date", w, required=True), r.text(rev, "note", w)))
-    fields = {k: r.text(table, k, where) for k in schema.PROJECT if k not in ("revisions", "title", "template")}
+        revisions.append(Revision(r.text(rev, "revision", w, required=True), _calendar_date(r, rev, "date", w, required=True), r.text(rev, "note", w)))
+    fields = {k: r.text(table, k, where) for k in schema.PROJECT if k not in ("revisions", "title", "template", "date")}
+    fields["date"] = _calendar_date(r, table, "date", where)
     return ProjectInfo(
         title=r.text(table, "title", where, required=bool(table)),
         template=r.text(table, "template", where, "a4-portrait"),
         revisions=tuple(revisions),
         **fields,
     )
+
+
+def _plain_number(value: Any) -> float | None:
+    """A TOML number (no unit) as a float, or None: not a number, a boolean, NaN, infinite, or
+    beyond ±MAX_MAGNITUDE (an int too large for a float among them: float() would overflow)."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return None
+    if isinstance(value, int) and abs(value) > MAX_MAGNITUDE:
+        return None
+    number = float(value)
+    return number if math.isfinite(number) and abs(number) <= MAX_MAGNITUDE else None
+
+
+_ISO_DATE = re.compile(r"\d{4}-\d{2}-\d{2}")
+_DATE_HINT = "write an ISO 8601 calendar date, year-month-day: date = 2026-03-02 (or \"2026-03-02\")"
+
+
+def _calendar_date(r: _Reader, table: dict, key: str, where: Path_, *, required: bool = False) -> str:
+    """An ISO 8601 calendar date (YYYY-MM-DD) as text: a TOML date, or a string of that form naming a
+    real day. Sheets and revision tables print it as given, so "3/2/26" would be read two ways."""
+    if key not in table or (table[key] == "" and not required):
+        if required:
+            r.problem(where, f"missing '{key}'", _DATE_HINT)
+        return ""
+    value = table[key]
+    if isinstance(value, datetime.datetime):  # a subclass of date: test it first
+        r.problem(where + (key,), f"expected a date alone, got the date and time {value.isoformat()}", _DATE_HINT)
+    elif isinstance(value, datetime.date):
+        return value.isoformat()
+    elif isinstance(value, str) and _ISO_DATE.fullmatch(value.strip()):
+        try:
+            return datetime.date.fromisoformat(value.strip()).isoformat()
+        except ValueError:
+            r.problem(where + (key,), f"{value!r} is not a day of the calendar", _DATE_HINT)
+    else:
+        r.problem(where + (key,), f"expected an ISO 8601 date (YYYY-MM-DD), got {value!r}", _DATE_HINT)
+    return ""
 
 
 def _materials(r: _Reader, data: dict, units: DisplayUnits) -> dict[str, Material]:
@@ -270,6 +312,7 @@ def _sections(r: _Reader, data: dict, units: DisplayUnits, materials: dict) -> d
     out = {}
     kinds = {"area": "area", "second_moment": "second_moment", "axial_stiffness": "force",
              "second_moment_in_plane": "second_moment", "second_moment_out_of_plane": "second_moment"}
+    declared_materials = data["materials"] if isinstance(data.get("materials"), dict) else {}  # read, problems or not
     for sid, table in r.table(data.get("sections"), ("sections",)).items():
         w = ("sections", sid)
         table = r.table(table, w)
@@ -279,7 +322,10 @@ def _sections(r: _Reader, data: dict, units: DisplayUnits, materials: dict) -> d
             for key, kind in kinds.items()
         }
         material = table.get("material")
-        if material is not None and material not in materials and material not in r.table(data.get("materials"), ("materials",)):
+        if material is not None and not isinstance(material, str):
+            r.problem(w + ("material",), f"expected a material id, got {material!r}", 'e.g. material = "steel"')
+            material = None
+        elif material is not None and material not in materials and material not in declared_materials:
             near = difflib.get_close_matches(str(material), list(materials), n=1)
             r.problem(w + ("material",), f"unknown material '{material}'", f"did you mean '{near[0]}'?" if near else "define it under [materials]")
         if values["area"] is None and values["axial_stiffness"] is None and "area" not in table and "axial_stiffness" not in table:
@@ -301,9 +347,15 @@ def _csv_rows(r: _Reader, name: Any, where: Path_, columns: tuple[str, ...], opt
         r.problem(where, f"cannot read '{name}': {exc.strerror or exc}", "the path is relative to the project file")
         return
     r.hash.update(b"\0" + name.encode() + b"\0" + raw)
-    text = raw.decode("utf-8-sig", errors="replace")
+    text = _csv_text(r, raw, name, where, str(path))
+    if text is None:
+        return
     reader = csv.DictReader(io.StringIO(text))
-    header = [h.strip() for h in (reader.fieldnames or [])]
+    try:
+        header = [h.strip() for h in (reader.fieldnames or [])]
+    except csv.Error as exc:
+        r.problem(where, f"'{name}' cannot be read as CSV: {exc}", "check the quoting of the first line", file=str(path), line=1)
+        return
     reader.fieldnames = header
     missing = [c for c in columns if c not in header]
     if missing:
@@ -312,7 +364,16 @@ def _csv_rows(r: _Reader, name: Any, where: Path_, columns: tuple[str, ...], opt
     unknown = [c for c in header if c not in columns + optional]
     for c in unknown:
         r.problem(where, f"'{name}' has an unknown column '{c}'", f"allowed: {', '.join(columns + optional)}", file=str(path), line=1)
-    for row in reader:
+    rows = iter(reader)
+    while True:
+        try:
+            row = next(rows)
+        except StopIteration:
+            return
+        except csv.Error as exc:  # e.g. a field longer than the csv module's limit
+            r.problem(where, f"'{name}' cannot be read as CSV here: {exc}", "check the quoting on this line",
+                      file=str(path), line=reader.line_num)
+            return
         if not any((v or "").strip() for v in row.values() if isinstance(v, str)):
             continue
         if None in row or None in row.values():  # DictReader's marks for too many / too few values
@@ -320,6 +381,21 @@ def _csv_rows(r: _Reader, name: Any, where: Path_, columns: tuple[str, ...], opt
             r.problem(where, f"'{name}' has {count} values on this line, its header names {len(header)} columns",
                       f"give one value per column: {', '.join(header)}", file=str(path), line=reader.line_num)
         yield reader.line_num, str(path), {k: (v or "").strip() for k, v in row.items() if k is not None}
+
+
+def _csv_text(r: _Reader, raw: bytes, name: str, where: Path_, file: str) -> str | None:
+    """A CSV file's text, or None after a problem with its line: not UTF-8, or NUL characters
+    (a spreadsheet's binary file named in place of its CSV export, most often)."""
+    if b"\0" in raw:
+        r.problem(where, f"'{name}' holds NUL bytes: a binary file, not CSV text",
+                  "export it from the spreadsheet as CSV, UTF-8", file=file, line=raw[:raw.index(b"\0")].count(b"\n") + 1)
+        return None
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        r.problem(where, f"'{name}' is not UTF-8 text ({exc.reason} at byte {exc.start})",
+                  "export it from the spreadsheet as CSV, UTF-8", file=file, line=raw[:exc.start].count(b"\n") + 1)
+        return None
 
 
 def _coordinate_vector(r: _Reader, value: Any, dim: int, units: DisplayUnits, where: Path_, kind: str, file=None, line=None):
@@ -435,7 +511,7 @@ def _check_geometry(r: _Reader, node_ids, coords: np.ndarray, members):
         return
     extent = float(np.ptp(coords[readable], axis=0).max()) or 1.0
     tol = 1e-9 * extent
-    for a, b in sorted(cKDTree(coords[readable]).query_pairs(tol)):
+    for a, b in close_pairs(coords[readable], tol):
         i, j = readable[a], readable[b]
         file, line = r.csv_origin.get(("nodes", node_ids[j]), (None, None))
         r.problem(("nodes", node_ids[j]), f"node '{node_ids[j]}' coincides with node '{node_ids[i]}'", "merge them or move one", file=file, line=line)
@@ -537,10 +613,10 @@ def _combinations(r: _Reader, data: dict, state_ids: set[str]) -> list[Combinati
             if case_id not in state_ids:
                 near = difflib.get_close_matches(case_id, sorted(state_ids), n=1)
                 r.problem(w + ("factors", case_id), f"combination '{cid}' names an unknown case '{case_id}'", f"did you mean '{near[0]}'?" if near else "use a case id from [cases]")
-            elif isinstance(f, bool) or not isinstance(f, (int, float)) or not math.isfinite(f):
-                r.problem(w + ("factors", case_id), f"factor must be a finite number, got {f!r}", f"e.g. {case_id} = 1.5")
+            elif _plain_number(f) is None:
+                r.problem(w + ("factors", case_id), f"factor must be a finite number within ±{MAX_MAGNITUDE:.0e}, got {f!r}", f"e.g. {case_id} = 1.5")
             else:
-                factors.append((case_id, float(f)))
+                factors.append((case_id, _plain_number(f)))
         purpose = r.choice(table, "purpose", schema.PURPOSES, "", w, "combination purpose") if "purpose" in table else ""
         out.append(Combination(cid, r.text(table, "title", w, cid), tuple(factors), purpose))
     return out
@@ -604,8 +680,8 @@ def _drawing(r: _Reader, data: dict, dim: int, state_ids: set[str]) -> DrawingOp
     value = table.get("projection", name)
     if isinstance(value, str) and value in schema.NAMED_DIRECTIONS:
         projection, name = schema.NAMED_DIRECTIONS[value], value
-    elif isinstance(value, list) and len(value) == 3 and all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value) and any(value):
-        projection, name = tuple(float(v) for v in value), "custom"
+    elif isinstance(value, list) and len(value) == 3 and all(_plain_number(v) is not None for v in value) and any(value):
+        projection, name = tuple(_plain_number(v) for v in value), "custom"
     else:
         r.problem(w + ("projection",), f"projection must be one of {', '.join(schema.NAMED_DIRECTIONS)} or a direction [x, y, z], got {value!r}")
     views = table.get("views", list(defaults.views))
@@ -632,13 +708,8 @@ def _design(r: _Reader, data: dict, units: DisplayUnits) -> DesignOptions:
     table = r.table(data.get("design"), w)
     r.known_keys(table, schema.DESIGN, w)
     values: dict[str, float | None] = {}
-    for key in ("partial_factor", "effective_length_factor", "slenderness_limit", "tension_slenderness_limit"):
-        v = table.get(key)
-        if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0):
-            r.problem(w + (key,), f"{key} must be a positive number, got {v!r}")
-            v = None
-        values[key] = None if v is None else float(v)
-    for key in ("imperfection_factor", "buckling_partial_factor", "deflection_limit"):
+    for key in ("partial_factor", "effective_length_factor", "slenderness_limit", "tension_slenderness_limit",
+                "imperfection_factor", "buckling_partial_factor", "deflection_limit"):
         values[key] = _positive_number(r, table, key, w)
     limit = None
     if "stress_limit" in table:
@@ -659,10 +730,11 @@ def _design(r: _Reader, data: dict, units: DisplayUnits) -> DesignOptions:
 
 def _positive_number(r: _Reader, table: dict, key: str, w: Path_) -> float | None:
     v = table.get(key)
-    if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0):
+    number = None if v is None else _plain_number(v)
+    if v is not None and (number is None or number <= 0):
         r.problem(w + (key,), f"{key} must be a positive number, got {v!r}")
         return None
-    return None if v is None else float(v)
+    return number
 
 
 def _length_factors(r: _Reader, table: dict, w: Path_) -> tuple[tuple[str, float], ...]:
@@ -728,8 +800,8 @@ def _polyhedral(r: _Reader, data: dict, node_index: dict, dim: int) -> Polyhedra
     for nid, h in r.table(table.get("heights"), w + ("heights",)).items():
         if nid not in node_index:
             r.problem(w + ("heights", nid), f"height for unknown node '{nid}'")
-        elif isinstance(h, bool) or not isinstance(h, (int, float)) or not math.isfinite(h):
-            r.problem(w + ("heights", nid), f"height must be a finite number, got {h!r}")
+        elif _plain_number(h) is None:
+            r.problem(w + ("heights", nid), f"height must be a finite number within ±{MAX_MAGNITUDE:.0e}, got {h!r}")
         else:
-            heights.append((nid, float(h)))
+            heights.append((nid, _plain_number(h)))
     return PolyhedralInput(tuple(cells), find, tuple(heights))

@@ -2,7 +2,9 @@
 
 tomllib gives line numbers only for syntax errors, so after parsing we scan the
 text once: table headers set the current prefix, ``key = value`` lines add
-``prefix.key``. A path not found falls back to its longest known prefix.
+``prefix.key``; the i-th ``[[name]]`` block of an array of tables is ``name.i``
+(0-based, the index the loader puts in its key paths). A path not found falls
+back to its longest known prefix.
 """
 
 from __future__ import annotations
@@ -24,11 +26,16 @@ class KeyLines:
     def __init__(self, text: str):
         self._lines: dict[tuple[str, ...], int] = {}
         prefix: tuple[str, ...] = ()
+        blocks: dict[tuple[str, ...], int] = {}  # array-of-tables name -> blocks seen
         for number, line in enumerate(text.splitlines(), start=1):
             header = _HEADER.match(line)
             if header and not _ASSIGN.match(line):
                 prefix = _split(header.group(1))
                 self._lines.setdefault(prefix, number)
+                if line.lstrip().startswith("[["):
+                    blocks[prefix] = blocks.get(prefix, -1) + 1
+                    prefix = prefix + (str(blocks[prefix]),)
+                    self._lines.setdefault(prefix, number)
                 continue
             assign = _ASSIGN.match(line)
             if assign:

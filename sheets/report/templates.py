@@ -22,19 +22,17 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from reportlab.lib.pagesizes import A3, A4, landscape, letter, portrait
-from reportlab.pdfbase.pdfmetrics import stringWidth
-
 from sheets.errors import Problem, ProjectError
-from sheets.report.fonts import register_fonts
 
 if sys.version_info >= (3, 11):
     import tomllib
 else:  # pragma: no cover
     import tomli as tomllib
 
-PAGE_SIZES = {"A4": A4, "A3": A3, "letter": letter}
-ORIENTATIONS = {"portrait": portrait, "landscape": landscape}
+# reportlab (and the fonts, through matplotlib) are imported only when a template is parsed:
+# finding one by name stays cheap for `sheets check`.
+PAGE_SIZES = ("A4", "A3", "letter")
+ORIENTATIONS = ("portrait", "landscape")
 SECTIONS = ("cover", "design_basis", "model", "determinacy", "states", "envelope", "member_checks", "sizing",
             "serviceability", "issued_files", "cautions")
 STATE_PARTS = ("forces", "reactions", "checks", "form_forces", "force_diagram", "cells", "minkowski", "load_path")
@@ -188,6 +186,21 @@ class _Reader:
         return tuple(v for v in dict.fromkeys(value) if v in allowed)
 
 
+def _page_size(size: str, orientation: str) -> tuple[float, float]:
+    """(width, height) in points of a size in PAGE_SIZES turned to an orientation in ORIENTATIONS."""
+    from reportlab.lib import pagesizes
+
+    return getattr(pagesizes, orientation)(getattr(pagesizes, size))
+
+
+def _footer_width(footer: str) -> float:
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    from sheets.report.fonts import register_fonts
+
+    return stringWidth(footer, register_fonts().regular, FOOTER_SIZE)
+
+
 def _parse(data: dict[str, Any], file: str) -> Template:
     r = _Reader(file)
     r.keys(data, KEYS[""], "")
@@ -205,7 +218,7 @@ def _parse(data: dict[str, Any], file: str) -> Template:
     if not footer.strip():
         r.problem("text.footer_caution", "the footer caution is missing or empty",
                   "every sheet must carry a short caution, e.g. \"Indicative calculations. Review by a licensed engineer required.\"")
-    elif stringWidth(footer, register_fonts().regular, FOOTER_SIZE) > ORIENTATIONS[orientation](PAGE_SIZES[size])[0] - 2 * margin:
+    elif _footer_width(footer) > _page_size(size, orientation)[0] - 2 * margin:
         r.problem("text.footer_caution", "the footer caution does not fit on one line of the page",
                   "shorten it; the full text belongs in the cautions list")
     cautions = text.get("cautions", [])
@@ -222,7 +235,7 @@ def _parse(data: dict[str, Any], file: str) -> Template:
     result = Template(
         name=r.text(meta, "name", "template", Path(file).stem),
         source=file,
-        page_size=ORIENTATIONS[orientation](PAGE_SIZES[size]),
+        page_size=_page_size(size, orientation),
         margin=margin,
         font_size=r.number(text, "font_size", "text", 8.5, 6, 14),
         footer_caution=footer,

@@ -194,19 +194,19 @@ def _build_until_workers(path: Path, out: Path) -> tuple[subprocess.Popen, set[i
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("how", [signal.SIGTERM, signal.SIGKILL])
+@pytest.mark.parametrize("how", [signal.SIGINT, signal.SIGTERM, signal.SIGKILL])
 def test_a_stopped_build_leaves_no_worker_behind(tmp_path, how):
     path = write_project(tmp_path / "p")
     out = tmp_path / "out"
     build, workers = _build_until_workers(path, out)
     build.send_signal(how)
     code = build.wait(60)
-    assert code == (128 + how if how == signal.SIGTERM else -how)
+    assert code == (-how if how == signal.SIGKILL else 128 + how)
     deadline = time.monotonic() + 10
     while any(_alive(w) for w in workers) and time.monotonic() < deadline:
         time.sleep(0.05)
     assert [w for w in workers if _alive(w)] == []
-    if how == signal.SIGTERM:  # a clean stop: no staging left, lock free, nothing published
+    if how != signal.SIGKILL:  # a clean stop: no staging left, lock free, nothing published
         assert not os.path.lexists(out)
         assert [p.name for p in publish.sets_folder(out).iterdir()] == [publish.LOCK_NAME]
 
@@ -238,3 +238,17 @@ def test_a_build_killed_at_random_moments_leaves_a_whole_set(tmp_path):
     _assert_whole_set(out)
     leftovers = sorted(p.name for p in publish.sets_folder(out).iterdir())
     assert leftovers == [publish.LOCK_NAME, Path(os.readlink(out)).name]  # one set, no staging
+
+
+# -- same input, same bytes ----------------------------------------------------------
+
+@pytest.mark.slow
+def test_the_atrium_demo_builds_to_the_same_bytes_twice(tmp_path):
+    """The 1,152-member demo takes the sparse determinacy route, whose eigen-solver once started
+    from a random vector; in one process ARPACK's own seed moves on between the two builds."""
+    demo = ROOT / "demo_projects" / "atrium_grid" / "atrium_grid.toml"
+    first = _files(build_sheets(demo, tmp_path / "a").pdf.parent)
+    second = _files(build_sheets(demo, tmp_path / "b").pdf.parent)
+    assert first.keys() == second.keys() and "manifest.json" in first
+    assert [name for name in first if first[name] != second[name]] == []
+    assert json.loads(first["results.json"])["determinacy"]["route"] == "sparse shift-invert"

@@ -2,7 +2,8 @@
 
 Exit codes (DESIGN.md): 0 success, 2 bad input or an output that cannot be
 written, 3 the frame cannot carry the loads (mechanism), 4 a verification check
-failed; 130 / 143 stopped by Ctrl-C / SIGTERM (nothing half-written is published).
+failed; 130 / 143 / 129 stopped by Ctrl-C / SIGTERM / SIGHUP (nothing half-written
+is published).
 """
 
 from __future__ import annotations
@@ -267,12 +268,19 @@ def _draw(args) -> int:
 
 
 class Terminated(KeyboardInterrupt):
-    """SIGTERM, raised in the main thread so the run unwinds as for Ctrl-C: figure workers are
-    stopped, the staging folder removed and the output lock released."""
+    """SIGTERM or SIGHUP (the terminal closed), raised in the main thread so the run unwinds as
+    for Ctrl-C: figure workers are stopped, the staging folder removed and the output lock released."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signal.Signals(signum)
+
+
+STOP_SIGNALS = (signal.SIGTERM, signal.SIGHUP)
 
 
 @contextmanager
-def _sigterm_unwinds() -> Iterator[None]:
+def _stop_signals_unwind() -> Iterator[None]:
     if threading.current_thread() is not threading.main_thread():
         yield
         return
@@ -280,20 +288,22 @@ def _sigterm_unwinds() -> Iterator[None]:
     def stop(signum, _frame):
         raise Terminated(signum)
 
-    previous = signal.signal(signal.SIGTERM, stop)
+    # a signal ignored by whoever started us (nohup ignores SIGHUP) stays ignored
+    previous = {sig: signal.signal(sig, stop) for sig in STOP_SIGNALS if signal.getsignal(sig) is not signal.SIG_IGN}
     try:
         yield
     finally:
-        signal.signal(signal.SIGTERM, previous)
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)
 
 
 def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     try:
-        with _sigterm_unwinds():
+        with _stop_signals_unwind():
             return args.run(args)
     except KeyboardInterrupt as exc:
-        stopped_by = signal.SIGTERM if isinstance(exc, Terminated) else signal.SIGINT
+        stopped_by = exc.signum if isinstance(exc, Terminated) else signal.SIGINT
         err.print(f"Stopped ({stopped_by.name}): nothing half-written was published; earlier outputs are unchanged.",
                   markup=False)
         return 128 + stopped_by

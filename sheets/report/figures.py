@@ -292,7 +292,8 @@ def _task(index: int, state_id: str | None) -> list:
 
 def _start_worker(args, parent: int) -> None:
     _die_with_parent(parent)
-    signal.signal(signal.SIGTERM, signal.SIG_DFL)  # not the command's handler: terminate() must end a worker
+    for sig in (signal.SIGTERM, signal.SIGHUP):  # not the command's handler: terminate() must end a worker
+        signal.signal(sig, signal.SIG_DFL)
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C reaches the whole group; the parent stops the workers
     _WORK["args"] = args
 

@@ -194,7 +194,7 @@ def _build_until_workers(path: Path, out: Path) -> tuple[subprocess.Popen, set[i
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("how", [signal.SIGINT, signal.SIGTERM, signal.SIGKILL])
+@pytest.mark.parametrize("how", [signal.SIGINT, signal.SIGTERM, signal.SIGHUP, signal.SIGKILL])
 def test_a_stopped_build_leaves_no_worker_behind(tmp_path, how):
     path = write_project(tmp_path / "p")
     out = tmp_path / "out"

@@ -123,9 +123,9 @@ def _read_manifest(folder: Path) -> dict[str, str] | None:
         doc = json.loads((folder / MANIFEST).read_text(encoding="utf-8"))
     except (OSError, ValueError):
         return None
-    files = doc.get("files") if isinstance(doc, dict) else None
-    if doc.get("schema") != MANIFEST_SCHEMA or not isinstance(files, dict):
+    if not isinstance(doc, dict) or doc.get("schema") != MANIFEST_SCHEMA or not isinstance(doc.get("files"), dict):
         return None
+    files = doc["files"]
     return {str(k): str(v) for k, v in files.items()}
 
 

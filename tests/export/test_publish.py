@@ -197,3 +197,13 @@ def test_a_killed_holder_releases_the_lock(tmp_path):
     deadline = time.monotonic() + 10
     with SetWriter(out):
         assert time.monotonic() < deadline
+
+
+@pytest.mark.parametrize("text", ["[1, 2]", "{not json", '{"schema": "other/1", "files": {}}', '{"schema": "sheets.manifest/1"}'])
+def test_an_older_set_with_an_unreadable_manifest_is_kept_whole(tmp_path, text):
+    out = tmp_path / "girder"
+    _publish(out, {"results.json": "one"})
+    old = out.resolve()
+    (old / "manifest.json").write_text(text)
+    writer = _publish(out, {"results.json": "two"})
+    assert (old / "results.json").read_text() == "one" and len(writer.kept) == 1

@@ -214,6 +214,7 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     from sheets.errors import Problem, ProjectError
     from sheets.export.diagram_json import write_diagram_json
     from sheets.export.dxf import write_diagram_dxf
+    from sheets.export.publish import check_folder_target
     from sheets.reciprocal.diagram import force_diagram
     from sheets.render.diagram2d import form_force_figure, verification_figure
 
@@ -223,6 +224,9 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     note("reading project")
     source = Path(path)
     project = load_project(source)
+    # beside the sheet set, not inside it: the set's folder belongs to `sheets build` alone
+    out = Path(out_dir) if out_dir is not None else default_out_dir(source).with_name(f"{source.stem}-diagrams")
+    check_folder_target(out, "--out")  # before analysing: a bad folder costs no time
     analysis = analyse(project, progress)
     known = [s.id for s in analysis.states]
     wanted = list(state_ids or project.drawing.states or known)
@@ -230,8 +234,6 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     if unknown:
         raise ProjectError([Problem(str(source), "", f"no case or combination '{sid}'", f"known: {', '.join(known)}")
                             for sid in unknown])
-    # beside the sheet set, not inside it: the set's folder belongs to `sheets build` alone
-    out = Path(out_dir) if out_dir is not None else default_out_dir(source).with_name(f"{source.stem}-diagrams")
     files: list[Path] = []
     drawn: list[DrawnState] = []
     for i, sid in enumerate(wanted):

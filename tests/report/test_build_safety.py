@@ -249,3 +249,11 @@ def test_the_atrium_demo_builds_to_the_same_bytes_twice(tmp_path):
     assert first.keys() == second.keys() and "manifest.json" in first
     assert [name for name in first if first[name] != second[name]] == []
     assert json.loads(first["results.json"])["determinacy"]["route"] == "sparse shift-invert"
+
+
+def test_draw_checks_its_folder_before_analysing(tmp_path, capsys, no_analysis):
+    path = write_project(tmp_path / "p")
+    (tmp_path / "figures.png").write_text("mine")
+    assert cli.main(["draw", str(path), "--out", str(tmp_path / "figures.png")]) == 2
+    assert "--out names a file, not a folder" in capsys.readouterr().err
+    assert (tmp_path / "figures.png").read_text() == "mine"

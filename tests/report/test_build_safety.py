@@ -180,10 +180,17 @@ def _alive(pid: int) -> bool:
     return state not in ("Z", "X")  # a zombie has ended; only its exit status is left
 
 
+def _default_stop_signals() -> None:
+    """In the child: SIGINT and SIGHUP as a terminal would deliver them (a shell without job
+    control starts background commands with SIGINT ignored, nohup ignores SIGHUP)."""
+    for sig in (signal.SIGINT, signal.SIGTERM, signal.SIGHUP):
+        signal.signal(sig, signal.SIG_DFL)
+
+
 def _build_until_workers(path: Path, out: Path) -> tuple[subprocess.Popen, set[int]]:
     """Start a build and wait until it has forked its figure workers."""
     build = subprocess.Popen(_command("build", str(path), "--out", str(out)), env=_env(),
-                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, preexec_fn=_default_stop_signals)
     deadline = time.monotonic() + 240
     workers: set[int] = set()
     while len(workers) < 2 and build.poll() is None and time.monotonic() < deadline:

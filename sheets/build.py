@@ -7,11 +7,6 @@ prints.
 
 from __future__ import annotations
 
-import hashlib
-import json
-import os
-import shutil
-import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
@@ -95,13 +90,28 @@ def design_outcome_of(analysis: Analysis, checks=None):
     return design_outcome(analysis, checks or member_checks(analysis), serviceability(analysis))
 
 
+def check_result_targets(json_path: str | Path | None, csv_dir: str | Path | None) -> None:
+    """Before solving: ``json_path`` can be a file and ``csv_dir`` a folder there (else an OutputError, exit 2)."""
+    from sheets.export.publish import check_file_target, check_folder_target
+
+    if json_path is not None:
+        check_file_target(Path(json_path), "--json")
+    if csv_dir is not None:
+        check_folder_target(Path(csv_dir), "--csv")
+
+
 def write_results(analysis: Analysis, json_path: str | Path | None = None, csv_dir: str | Path | None = None,
                   sections: dict[str, Any] | None = None) -> list[Path]:
+    from sheets.export.publish import output_error
+
     written: list[Path] = []
-    if json_path is not None:
-        written.append(write_results_json(analysis, json_path, sections if sections is not None else result_sections(analysis)))
-    if csv_dir is not None:
-        written.extend(write_results_csv(analysis, csv_dir))
+    try:
+        if json_path is not None:
+            written.append(write_results_json(analysis, json_path, sections if sections is not None else result_sections(analysis)))
+        if csv_dir is not None:
+            written.extend(write_results_csv(analysis, csv_dir))
+    except OSError as exc:  # each file is written atomically: what was there before stays whole
+        raise output_error(exc, json_path if csv_dir is None else csv_dir) from exc
     return written
 
 
@@ -127,6 +137,7 @@ class SheetBuild:
     passed: bool  # every verification check passed
     outcome: Any = None  # the design outcome (sheets.analysis.outcome.DesignOutcome)
     outcome_units: Any = None  # the project's display units, to print the outcome in
+    kept: tuple[str, ...] = ()  # older sets left in place because they hold files sheets did not write
 
 
 def default_out_dir(project_path: str | Path) -> Path:
@@ -139,14 +150,15 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     """The whole chain: load -> analyse -> member checks -> diagrams and figures -> results -> PDF, into ``out_dir``.
 
     Writes <out>/<project stem>.pdf, <out>/results.json, <out>/csv/*.csv, <out>/figures/* and
-    <out>/manifest.json (SHA-256 of every file). Everything is first written into a staging folder
-    inside ``out_dir``; only when every file is complete are they renamed into place one by one
-    (each rename atomic), the PDF and then the manifest last. An interrupted build therefore
-    leaves the previous PDF whole. Files of the previous set that the new one no longer has
-    (figures of a removed state) are removed after the new PDF is in place.
+    <out>/manifest.json (SHA-256 of every file). The output folder is checked and locked before
+    any computation (sheets.export.publish: an ``OutputError``, exit code 2, if it cannot take the
+    set). The set is written into a staging folder and published in one atomic switch of ``out``
+    (a symlink to a versioned folder), so an interrupted or killed build leaves the previous set
+    whole; older sets are then removed file by file as their own manifests list them.
     """
     from sheets.analysis.member_checks import member_checks, member_checks_csv
     from sheets.analysis.sizing import size_members
+    from sheets.export.publish import SetWriter, output_error
     from sheets.reciprocal.stage import project_diagrams
     from sheets.report.assemble import assemble
     from sheets.report.figures import collect_figures, drawn_states
@@ -159,65 +171,38 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     project = load_project(source)
     template = load_template(project.info.template, source.parent, project.source)
     out = Path(out_dir) if out_dir is not None else default_out_dir(source)
-    note("analysis")
-    analysis = analyse(project, progress)
-    note("member checks")
-    checks = member_checks(analysis)
-    sizing = size_members(analysis)
-    outcome = design_outcome_of(analysis, checks)
-    note("diagrams")
-    diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress)
-    note("figures")
-    figures, notes = collect_figures(analysis, template, progress, diagrams=diagrams)
-    out.mkdir(parents=True, exist_ok=True)
-    staging = Path(tempfile.mkdtemp(prefix=".sheets-build-", dir=out))
-    try:
+    with SetWriter(out) as target:  # checks the folder and takes its lock before computing
+        note("analysis")
+        analysis = analyse(project, progress)
+        note("member checks")
+        checks = member_checks(analysis)
+        sizing = size_members(analysis)
+        outcome = design_outcome_of(analysis, checks)
+        note("diagrams")
+        diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress)
+        note("figures")
+        figures, notes = collect_figures(analysis, template, progress, diagrams=diagrams)
         note("results")
-        write_results(analysis, staging / "results.json", staging / "csv",
-                      result_sections(analysis, checks, sizing, diagrams))
-        write_atomic(staging / "csv" / "member_checks.csv", member_checks_csv(checks, project, analysis.equilibrium.lengths))
-        for fig in figures:
-            write_atomic(staging / "figures" / fig.file_name, fig.file_bytes(project.info.prepared_by))
-        issued = [IssuedFile("results.json", "every result of this set, machine-readable (schema sheets.results/1)")]
-        issued += [IssuedFile(f"csv/{p.name}", CSV_CONTENTS.get(p.name, "table")) for p in sorted((staging / "csv").glob("*.csv"))]
-        issued += [IssuedFile(f"figures/{f.file_name}", f.title) for f in figures]
-        issued.append(IssuedFile("manifest.json", "SHA-256 of every file above and of this PDF"))
-        note("assembly")
-        pdf_name = f"{source.stem}.pdf"
-        write_atomic(staging / pdf_name, assemble(analysis, checks, figures, template, issued=tuple(issued),
-                                                  sizing=sizing, notes=notes))
-        note("writing files")
-        files = _publish(staging, out, pdf_name, project.fingerprint)
-    finally:
-        shutil.rmtree(staging, ignore_errors=True)
-    return SheetBuild(out / pdf_name, files, analysis.passed, outcome, project.units)
-
-
-def _publish(staging: Path, out: Path, pdf_name: str, fingerprint: str) -> tuple[Path, ...]:
-    """Rename the staged files into ``out`` (PDF, then manifest, last); drop files the new set no longer has."""
-    staged = sorted((p.relative_to(staging).as_posix() for p in staging.rglob("*") if p.is_file()),
-                    key=lambda name: (name == pdf_name, name))
-    manifest = out / "manifest.json"
-    previous: list[str] = []
-    if manifest.is_file():
         try:
-            previous = list(json.loads(manifest.read_text(encoding="utf-8")).get("files", {}))
-        except (ValueError, OSError, AttributeError):
-            previous = []
-    digests = {name: hashlib.sha256((staging / name).read_bytes()).hexdigest() for name in staged}
-    written = []
-    for name in staged:
-        target = out / name
-        target.parent.mkdir(parents=True, exist_ok=True)
-        os.replace(staging / name, target)
-        written.append(target)
-    doc = {"schema": "sheets.manifest/1", "input_fingerprint": fingerprint, "pdf": pdf_name, "files": digests}
-    write_atomic(manifest, json.dumps(doc, indent=1, sort_keys=True) + "\n")
-    written.append(manifest)
-    for name in previous:
-        if name not in digests and ".." not in Path(name).parts:
-            (out / name).unlink(missing_ok=True)
-    return tuple(written)
+            staging = target.stage()
+            write_results(analysis, staging / "results.json", staging / "csv",
+                          result_sections(analysis, checks, sizing, diagrams))
+            write_atomic(staging / "csv" / "member_checks.csv", member_checks_csv(checks, project, analysis.equilibrium.lengths))
+            for fig in figures:
+                write_atomic(staging / "figures" / fig.file_name, fig.file_bytes(project.info.prepared_by))
+            issued = [IssuedFile("results.json", "every result of this set, machine-readable (schema sheets.results/1)")]
+            issued += [IssuedFile(f"csv/{p.name}", CSV_CONTENTS.get(p.name, "table")) for p in sorted((staging / "csv").glob("*.csv"))]
+            issued += [IssuedFile(f"figures/{f.file_name}", f.title) for f in figures]
+            issued.append(IssuedFile("manifest.json", "SHA-256 of every file above and of this PDF"))
+            note("assembly")
+            pdf_name = f"{source.stem}.pdf"
+            pdf = assemble(analysis, checks, figures, template, issued=tuple(issued), sizing=sizing, notes=notes)
+            write_atomic(staging / pdf_name, pdf)
+            note("writing files")
+            files = target.publish(pdf_name, project.fingerprint)
+        except OSError as exc:  # a full disk or a folder gone read-only while writing: the previous set stays
+            raise output_error(exc, target.out) from exc
+    return SheetBuild(out / pdf_name, files, analysis.passed, outcome, project.units, tuple(target.kept))
 
 
 # -- force diagrams (`sheets draw`) ----------------------------------------------
@@ -255,7 +240,7 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
                  minkowski: bool = False, meshes: bool = False) -> DrawResult:
     """Load, analyse and draw the force diagram of each state asked for (default: [drawing] states, else all).
 
-    Per state, into ``out_dir`` (default ``<project folder>/out/<project stem>/diagrams/``):
+    Per state, into ``out_dir`` (default ``<project folder>/out/<project stem>-diagrams/``):
     ``<state>-diagrams.<fmt>`` (form and force side by side), ``<state>-closure.<fmt>`` (the
     verification), for a 3D frame ``<state>-views.png`` (pyvista views), and on request
     ``<state>.dxf`` and ``<state>.diagram.json`` (schema sheets.diagram/1). ``on_state(i, n, id)``
@@ -264,6 +249,7 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     from sheets.errors import Problem, ProjectError
     from sheets.export.diagram_json import write_diagram_json
     from sheets.export.dxf import write_diagram_dxf
+    from sheets.export.publish import check_folder_target
     from sheets.reciprocal.diagram import force_diagram
     from sheets.render.diagram2d import form_force_figure, verification_figure
 
@@ -273,6 +259,9 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     note("reading project")
     source = Path(path)
     project = load_project(source)
+    # beside the sheet set, not inside it: the set's folder belongs to `sheets build` alone
+    out = Path(out_dir) if out_dir is not None else default_out_dir(source).with_name(f"{source.stem}-diagrams")
+    check_folder_target(out, "--out")  # before analysing: a bad folder costs no time
     analysis = analyse(project, progress)
     known = [s.id for s in analysis.states]
     wanted = list(state_ids or project.drawing.states or known)
@@ -280,7 +269,6 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     if unknown:
         raise ProjectError([Problem(str(source), "", f"no case or combination '{sid}'", f"known: {', '.join(known)}")
                             for sid in unknown])
-    out = Path(out_dir) if out_dir is not None else default_out_dir(source) / "diagrams"
     files: list[Path] = []
     drawn: list[DrawnState] = []
     for i, sid in enumerate(wanted):

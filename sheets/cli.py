@@ -1,11 +1,13 @@
 """The `sheets` command: parse arguments, call sheets.build, print readable tables.
 
-Exit codes (DESIGN.md): 0 success, 2 bad input, 3 the frame cannot carry the
-loads (mechanism), 4 a verification check failed, 5 the results are written but
-the design outcome has flags (members over utilisation 1, cables in compression,
-struts in tension, uplift at supports, deflection over the limit); 4 wins over 5;
-1 an internal error (a bug: one line on stderr asking for a report, the traceback
-only with SHEETS_DEBUG=1).
+Exit codes (DESIGN.md): 0 success, 2 bad input or an output that cannot be
+written, 3 the frame cannot carry the loads (mechanism), 4 a verification check
+failed, 5 the results are written but the design outcome has flags (members over
+utilisation 1, cables in compression, struts in tension, uplift at supports,
+deflection over the limit); 4 wins over 5; 1 an internal error (a bug: one line
+on stderr asking for a report, the traceback only with SHEETS_DEBUG=1);
+130 / 143 / 129 stopped by Ctrl-C / SIGTERM / SIGHUP (nothing half-written is
+published).
 
 What the user wrote (titles, ids, file paths, messages quoting the file) is
 printed literally: the consoles never turn ``:100:`` into an emoji, and such
@@ -17,7 +19,9 @@ from __future__ import annotations
 import argparse
 import importlib
 import os
+import signal
 import sys
+import threading
 from contextlib import contextmanager
 from typing import Iterator, Sequence
 
@@ -27,7 +31,7 @@ from rich.progress import BarColumn, Progress, SpinnerColumn, TextColumn, TimeEl
 from rich.table import Table
 
 from sheets import __version__
-from sheets.errors import EXIT_CHECK_FAILED, EXIT_DESIGN_FLAGS, EXIT_OK, MechanismError, ProjectError
+from sheets.errors import EXIT_CHECK_FAILED, EXIT_DESIGN_FLAGS, EXIT_OK, MechanismError, OutputError, ProjectError
 from sheets.render import DRAW_FORMATS
 
 
@@ -80,7 +84,7 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("project", help="the project file (.toml)")
     p.add_argument("--case", metavar="ID", action="append", dest="cases",
                    help="a case or combination to draw (repeat for more; default: [drawing] states, else all)")
-    p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>/diagrams/)")
+    p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>-diagrams/)")
     p.add_argument("--format", choices=DRAW_FORMATS, default="png", help="figure format (default png)")
     p.add_argument("--dxf", action="store_true", help="also write each diagram as a DXF drawing")
     p.add_argument("--diagram-json", action="store_true", help="also write each diagram as JSON (schema sheets.diagram/1)")
@@ -97,17 +101,44 @@ def _parser() -> argparse.ArgumentParser:
     return parser
 
 
+class PlainLines:
+    """Stands in for the bar where stderr is not a terminal (a log file, CI), where a transient bar
+    shows nothing: one plain line per stage, i.e. per update that moves the count on."""
+
+    def __init__(self, command: str):
+        self.command = command
+
+    def add_task(self, description: str, total=None) -> int:
+        return 0
+
+    def update(self, task, description: str | None = None, completed=None, **_ignored) -> None:
+        if description and completed is not None:
+            say(self.command, description)
+
+
+def say(command: str, text: str) -> None:
+    err.print(f"[{command}] {text}", markup=False, highlight=False, soft_wrap=True)
+
+
 @contextmanager
-def progress_bar(first: str = "starting"):
-    """A transient bar with a description, on stderr; yields (bar, task) for the caller to update."""
+def progress_bar(first: str = "starting", command: str = "sheets"):
+    """A transient bar with a description, on stderr; yields (bar, task) for the caller to update.
+    Where stderr is not a terminal, plain lines instead (``PlainLines``)."""
+    if not err.is_terminal:
+        yield PlainLines(command), 0
+        return
     with Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed}/{task.total}"),
                   TimeElapsedColumn(), console=err, transient=True) as bar:
         yield bar, bar.add_task(first, total=None)
 
 
 @contextmanager
-def progress_notes() -> Iterator:
-    """A transient spinner naming the stage being worked on (stderr, so stdout stays clean)."""
+def progress_notes(command: str = "sheets") -> Iterator:
+    """A transient spinner naming the stage being worked on (stderr, so stdout stays clean);
+    where stderr is not a terminal, one plain line per stage."""
+    if not err.is_terminal:
+        yield lambda message: say(command, message)
+        return
     with Progress(SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(), console=err, transient=True) as bar:
         task = bar.add_task("starting", total=None)
         yield lambda message: bar.update(task, description=message)
@@ -193,7 +224,8 @@ def _checks_table(analysis) -> Table:
 
 
 def _solve(args) -> int:
-    with progress_notes() as note:
+    build.check_result_targets(args.json, args.csv)  # before solving: a bad target costs no time
+    with progress_notes("solve") as note:
         analysis = build.solve(args.project, note)
         written = build.write_results(analysis, args.json, args.csv)
     p = analysis.project
@@ -225,7 +257,7 @@ def _print_outcome(outcome, units) -> None:
 
 def _build(args) -> int:
     stages = build.BUILD_STAGES
-    with progress_bar() as (bar, task):
+    with progress_bar(command="build") as (bar, task):
         bar.update(task, total=len(stages))
 
         def note(message: str) -> None:
@@ -235,9 +267,11 @@ def _build(args) -> int:
                 bar.update(task, description=message)
 
         result = build.build_sheets(args.project, args.out, note)
-        bar.update(task, completed=len(stages))
+        bar.update(task, completed=len(stages), description="done")
     out.print(f"wrote {result.pdf}", markup=False)
     out.print(f"  and {len(result.files) - 1} more files beside it (results.json, csv/, figures/, manifest.json)")
+    for folder in result.kept:
+        err.print(f"kept an earlier set, it holds files sheets did not write: {folder}", markup=False)
     if result.outcome is not None:
         _print_outcome(result.outcome, result.outcome_units)
     if not result.passed:
@@ -247,7 +281,7 @@ def _build(args) -> int:
 
 
 def _draw(args) -> int:
-    with progress_bar("reading project") as (bar, task):
+    with progress_bar("reading project", "draw") as (bar, task):
 
         def on_state(done: int, total: int, state_id: str) -> None:
             bar.update(task, completed=done, total=total, description=f"drawing {state_id}" if state_id else "done")
@@ -272,10 +306,50 @@ def _draw(args) -> int:
     return EXIT_OK
 
 
+class Terminated(KeyboardInterrupt):
+    """SIGTERM or SIGHUP (the terminal closed), raised in the main thread so the run unwinds as
+    for Ctrl-C: figure workers are stopped, the staging folder removed and the output lock released."""
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signal.Signals(signum)
+
+
+STOP_SIGNALS = (signal.SIGTERM, signal.SIGHUP)
+
+
+@contextmanager
+def _stop_signals_unwind() -> Iterator[None]:
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+
+    def stop(signum, _frame):
+        raise Terminated(signum)
+
+    # a signal ignored by whoever started us (nohup ignores SIGHUP) stays ignored
+    previous = {sig: signal.signal(sig, stop) for sig in STOP_SIGNALS if signal.getsignal(sig) is not signal.SIG_IGN}
+    try:
+        yield
+    finally:
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     try:
-        return args.run(args)
+        with _stop_signals_unwind():
+            return args.run(args)
+    except KeyboardInterrupt as exc:
+        stopped_by = exc.signum if isinstance(exc, Terminated) else signal.SIGINT
+        err.print(f"Stopped ({stopped_by.name}): nothing half-written was published; earlier outputs are unchanged.",
+                  markup=False)
+        return 128 + stopped_by
+    except OutputError as exc:
+        err.print("[red]The output cannot be written.[/red]")
+        err.print(f"  {exc}", markup=False, soft_wrap=True)  # unwrapped: the path stays whole to copy
+        return exc.exit_code
     except ProjectError as exc:
         err.print(f"[red]The project has {len(exc.problems)} problem{'s' if len(exc.problems) != 1 else ''}:[/red]")
         for problem in exc.problems:

@@ -62,3 +62,16 @@ class CheckFailedError(Exception):
     """A verification check on a computed result failed its tolerance."""
 
     exit_code = EXIT_CHECK_FAILED
+
+
+class OutputError(Exception):
+    """The output location cannot take the files (a file where a folder should be, no permission,
+    a full disk, a folder sheets did not make, another build writing there): exit code 2."""
+
+    exit_code = EXIT_BAD_INPUT
+
+    def __init__(self, path, message: str, hint: str = ""):
+        self.path = str(path)
+        self.message = message
+        self.hint = hint
+        super().__init__(f"{self.path}: {message}" + (f" -> {hint}" if hint else ""))

@@ -30,10 +30,13 @@ build: it is left out and the cautions page says which and why.
 
 from __future__ import annotations
 
+import ctypes
 import importlib
 import io
 import multiprocessing
 import os
+import signal
+import sys
 import tempfile
 from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass
@@ -310,8 +313,40 @@ def _task(index: int, state_id: str | None) -> list:
     return _run(_WORK["args"], index, state_id)
 
 
-def _start_worker(args) -> None:
+def _start_worker(args, parent: int) -> None:
+    _die_with_parent(parent)
+    for sig in (signal.SIGTERM, signal.SIGHUP):  # not the command's handler: terminate() must end a worker
+        signal.signal(sig, signal.SIG_DFL)
+    signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C reaches the whole group; the parent stops the workers
     _WORK["args"] = args
+
+
+PR_SET_PDEATHSIG = 1  # linux/prctl.h
+
+
+def _die_with_parent(parent: int) -> None:
+    """Ask Linux to SIGKILL this worker when the build that forked it dies, even by SIGKILL (no
+    cleanup code of the parent runs then); exit at once if that has already happened."""
+    if sys.platform.startswith("linux"):
+        try:
+            ctypes.CDLL(None, use_errno=True).prctl(PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0)
+        except (OSError, AttributeError):
+            pass
+    if os.getppid() != parent:
+        os._exit(1)
+
+
+def _stop_workers(pool: ProcessPoolExecutor) -> None:
+    """Cancel what has not started and end the workers now (Ctrl-C, SIGTERM, an error): leaving
+    the pool normally would wait for every submitted figure."""
+    workers = list((getattr(pool, "_processes", None) or {}).values())  # Python < 3.14 has no public way to end them
+    pool.shutdown(wait=False, cancel_futures=True)
+    for worker in workers:
+        worker.terminate()
+    for worker in workers:
+        worker.join(timeout=5)
+        if worker.is_alive():
+            worker.kill()
 
 
 def collect_figures(analysis: Analysis, template: Template, progress: Progress | None = None, workers: int | None = None,
@@ -333,11 +368,16 @@ def collect_figures(analysis: Analysis, template: Template, progress: Progress |
         args = (analysis, template, Path(scratch), sources, diagrams or {})
         if workers > 1 and len(tasks) > 1 and "fork" in multiprocessing.get_all_start_methods():
             context = multiprocessing.get_context("fork")
-            with ProcessPoolExecutor(workers, mp_context=context, initializer=_start_worker, initargs=(args,)) as pool:
-                futures = [pool.submit(_task, i, sid) for i, sid in tasks]
-                for k, ((i, sid), future) in enumerate(zip(tasks, futures)):
-                    note(f"figures: {sources[i].name} {sid or ''} ({k + 1}/{len(tasks)})")
-                    results.append(future.result())
+            with ProcessPoolExecutor(workers, mp_context=context, initializer=_start_worker,
+                                     initargs=(args, os.getpid())) as pool:
+                try:
+                    futures = [pool.submit(_task, i, sid) for i, sid in tasks]
+                    for k, ((i, sid), future) in enumerate(zip(tasks, futures)):
+                        note(f"figures: {sources[i].name} {sid or ''} ({k + 1}/{len(tasks)})")
+                        results.append(future.result())
+                except BaseException:
+                    _stop_workers(pool)
+                    raise
         else:
             for k, (i, sid) in enumerate(tasks):
                 note(f"figures: {sources[i].name} {sid or ''} ({k + 1}/{len(tasks)})")

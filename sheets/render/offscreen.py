@@ -13,7 +13,14 @@ import os
 
 
 def prefer_offscreen_backend() -> None:
-    """Choose VTK's OSMesa window where there is no display and the user chose nothing."""
+    """Choose VTK's OSMesa window where there is no display and the user chose nothing.
+
+    Mesa's software rasteriser (llvmpipe) starts threads of its own at the first render, and
+    threads do not survive fork: a figure worker forked from a process that has rendered would
+    wait for them for ever. Unless the user says otherwise, it renders in the calling thread
+    (LP_NUM_THREADS=0); the build draws figures in parallel by process instead.
+    """
+    os.environ.setdefault("LP_NUM_THREADS", "0")
     if "VTK_DEFAULT_OPENGL_WINDOW" in os.environ or os.environ.get("DISPLAY"):
         return
     if ctypes.util.find_library("OSMesa"):

@@ -255,8 +255,9 @@ def test_the_atrium_demo_builds_to_the_same_bytes_twice(tmp_path):
     demo = ROOT / "demo_projects" / "atrium_grid" / "atrium_grid.toml"
     sets = []
     for name in ("a", "b"):
-        subprocess.run(_command("build", str(demo), "--out", str(tmp_path / name)), env=_env(), check=True,
-                       capture_output=True, timeout=900)
+        done = subprocess.run(_command("build", str(demo), "--out", str(tmp_path / name)), env=_env(),
+                              capture_output=True, timeout=900)
+        assert done.returncode in (0, 5), done.stderr  # 5: the set is written and its design outcome has flags
         sets.append(_files(tmp_path / name))
     first, second = sets
     assert first.keys() == second.keys() and "manifest.json" in first

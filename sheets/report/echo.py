@@ -52,7 +52,7 @@ def basis_given(sheet, st: Styles) -> list:
         return out + [Paragraph(f"<b>{escape(BASIS_MISSING)}</b>", st.body)]
     out.append(Paragraph("<b>Design code named by the engineer:</b> "
                          + (escape(basis.design_code) if basis.design_code else "not given"), st.body))
-    for title, items in (("Assumptions", basis.assumptions), ("Load derivation", basis.load_derivation),
+    for title, items in (("The engineer's assumptions", basis.assumptions), ("Load derivation", basis.load_derivation),
                          ("Notes", basis.notes)):
         out.append(Paragraph(f"<b>{title}</b>" + ("" if items else ": not given"), st.body))
         for text in items:
@@ -85,7 +85,7 @@ def member_table(sheet, st: Styles) -> list:
              fmt(lengths[e] / L, "length")] for e, (mid, (a, b)) in enumerate(zip(p.member_ids, p.ends))]
     return [Paragraph("Members", st.h2),
             long_table(sheet, st, ["Member", "Start", "End", "Section", "Role", "Group", f"Length [{ulabel(p.units, 'length')}]"],
-                       rows, numeric={6}, total_width=sheet.width)]
+                       rows, numeric={6}, total_width=sheet.width, two_columns=True)]
 
 
 def case_load_table(sheet, st: Styles, case) -> list:

@@ -162,7 +162,7 @@ def design_basis(sheet: SheetSet, st: Styles) -> list:
     w = sheet.width
     out: list = [heading("Design basis", st, 0, "design-basis")]
     out += basis_given(sheet, st)
-    out.append(Paragraph("Assumptions", st.h2))
+    out.append(Paragraph("Assumptions of the analysis", st.h2))
     method = {"auto": "equilibrium alone where the frame is statically determinate, linear-elastic compatibility "
                       "(stiffness method) where it is not",
               "elastic": "linear-elastic compatibility (stiffness method) for every state"}[p.options.method]

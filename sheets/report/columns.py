@@ -19,13 +19,14 @@ GAP = 10.0  # points between the two columns
 class TwoColumnTable(Flowable):
     """``make(rows)`` builds one column's table (header included, fixed column widths) of ``rows``."""
 
-    def __init__(self, make: Callable[[list], Table], rows: list, space_after: float = 0.0):
+    def __init__(self, make: Callable[[list], Table], rows: list, space_after: float = 0.0,
+                 measured: tuple[float, tuple[float, list[float]]] | None = None):
         super().__init__()
         self.make = make
         self.rows = rows
         self.spaceAfter = space_after
-        self._heights: tuple[float, list[float]] | None = None
-        self._width = None
+        # (width, (header height, row heights)): the pieces of a split keep their rows' heights, not laid out again
+        self._width, self._heights = measured if measured is not None else (None, None)
 
     def _column_width(self, avail: float) -> float:
         return (avail - GAP) / 2
@@ -57,8 +58,8 @@ class TwoColumnTable(Flowable):
             return []  # not even one row under the header: start on the next page
         if 2 * k >= len(self.rows):
             return [self]
-        return [TwoColumnTable(self.make, self.rows[:2 * k]),
-                TwoColumnTable(self.make, self.rows[2 * k:], self.spaceAfter)]
+        return [TwoColumnTable(self.make, self.rows[:2 * k], 0.0, (aW, (head, rows[:2 * k]))),
+                TwoColumnTable(self.make, self.rows[2 * k:], self.spaceAfter, (aW, (head, rows[2 * k:])))]
 
     def draw(self):
         k = math.ceil(len(self.rows) / 2)

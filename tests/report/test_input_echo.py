@@ -13,16 +13,18 @@ from __future__ import annotations
 import csv
 import json
 import math
+import os
 import re
+import subprocess
+import sys
 import tomllib
 from pathlib import Path
 
 import pdfplumber
 import pytest
 
-from sheets.build import build_sheets
-
-ATRIUM = Path(__file__).resolve().parents[2] / "demo_projects" / "atrium_grid"
+ROOT = Path(__file__).resolve().parents[2]
+ATRIUM = ROOT / "demo_projects" / "atrium_grid"
 G = 9.80665  # m/s^2, standard gravity (CGPM 1901)
 
 
@@ -33,10 +35,16 @@ def _read_csv(path: Path) -> list[dict[str, str]]:
 
 @pytest.fixture(scope="module")
 def atrium(tmp_path_factory):
-    """(project TOML as data, input CSV rows, SheetBuild, text and smallest type of each PDF page) of one atrium build."""
+    """(project TOML as data, input CSV rows, PDF path, text and smallest type of each PDF page) of one atrium build."""
     out = tmp_path_factory.mktemp("atrium") / "out"
-    result = build_sheets(ATRIUM / "atrium_grid.toml", out)
-    with pdfplumber.open(result.pdf) as pdf:
+    # built as a user builds it, by the command in a fresh process: its figure workers are forked
+    # from a process with no threads left over from earlier tests
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join([str(ROOT)] + [p for p in [os.environ.get("PYTHONPATH")] if p]))
+    run = subprocess.run([sys.executable, "-m", "sheets", "build", str(ATRIUM / "atrium_grid.toml"), "--out", str(out)],
+                         env=env, capture_output=True, text=True, timeout=1200)
+    assert run.returncode == 0, run.stderr[-3000:]
+    pdf_path = out / "atrium_grid.pdf"
+    with pdfplumber.open(pdf_path) as pdf:
         pages = [page.extract_text() or "" for page in pdf.pages]
         # the type of every member id printed on a page (the compact tables' cells)
         ids = {row["id"] for row in _read_csv(ATRIUM / "members.csv")}
@@ -46,7 +54,7 @@ def atrium(tmp_path_factory):
     inputs = {"nodes": _read_csv(ATRIUM / "nodes.csv"), "members": _read_csv(ATRIUM / "members.csv")}
     for cid, case in data["cases"].items():
         inputs[cid] = _read_csv(ATRIUM / case["loads_file"])
-    return data, inputs, result, pages, smallest
+    return data, inputs, pdf_path, pages, smallest
 
 
 def _lines(pages: list[str]) -> list[str]:
@@ -172,8 +180,8 @@ def test_nodal_loads_match_the_input_files(atrium):
 
 
 def test_nodes_and_loads_csv_match_the_input(atrium):
-    data, inputs, result, _, _ = atrium
-    out = result.pdf.parent
+    data, inputs, pdf_path, _, _ = atrium
+    out = pdf_path.parent
     nodes = _read_csv(out / "csv" / "nodes.csv")
     assert [n["node"] for n in nodes] == [n["id"] for n in inputs["nodes"]]
     for written, given in zip(nodes, inputs["nodes"]):
@@ -196,8 +204,8 @@ def test_nodes_and_loads_csv_match_the_input(atrium):
 
 
 def test_results_json_echoes_the_loads_and_basis(atrium):
-    data, inputs, result, _, _ = atrium
-    doc = json.loads((result.pdf.parent / "results.json").read_text())
+    data, inputs, pdf_path, _, _ = atrium
+    doc = json.loads((pdf_path.parent / "results.json").read_text())
     assert doc["project"]["basis"]["design_code"] == data["project"]["basis"]["design_code"]
     assert doc["project"]["basis"]["assumptions"] == data["project"]["basis"]["assumptions"]
     cases = {c["id"]: c for c in doc["load_cases"]}

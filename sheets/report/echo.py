@@ -9,11 +9,14 @@ their header row repeated on each.
 from __future__ import annotations
 
 import numpy as np
+from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.platypus import Paragraph
 
 from sheets.analysis.analyse import case_self_weight
 from sheets.report.columns import GAP, TwoColumnTable
-from sheets.report.tables import Styles, _auto_widths, escape, fmt, table, ulabel
+from sheets.report.tables import COMPACT_FONT, Styles, escape, fmt, table, ulabel
+
+PADDING = 6.5  # points of cell padding, left and right together, and a little air
 
 
 def long_table(sheet, st: Styles, header: list[str], rows: list[list], *, two_columns: bool = False, **kw):
@@ -24,11 +27,34 @@ def long_table(sheet, st: Styles, header: list[str], rows: list[list], *, two_co
     compact = len(rows) > sheet.template.table_rows
     if not (two_columns and compact):
         return table(st, header, rows, compact=compact, **kw)
-    width = (sheet.width - GAP) / 2
-    widths = _auto_widths(header, rows, width)
+    widths = fit_widths(header, rows, (sheet.width - GAP) / 2, st, max(COMPACT_FONT, st.cell.fontSize - 1))
     kw = {k: v for k, v in kw.items() if k not in ("total_width", "widths")}
     return TwoColumnTable(lambda part: table(st, header, part, compact=True, widths=widths, **kw), rows,
                           space_after=st.body.fontSize * 0.8)
+
+
+def fit_widths(header: list[str], rows: list[list], total: float, st: Styles, size: float) -> list[float]:
+    """Column widths for a narrow column: each wide enough for its widest text and header word, the rest shared.
+
+    Widths are measured in the sheets' fonts; padding is a fixed amount per cell, so narrow columns get it in
+    full (a proportional share would break short headers such as "Member" across two lines).
+    """
+    need, whole = [], []
+    for c, h in enumerate(header):
+        whole.append(PADDING + stringWidth(h, st.fonts.bold, size))
+        head = max(stringWidth(w, st.fonts.bold, size) for w in h.split())
+        texts = {str(r[c]) for r in rows if len(str(r[c])) <= 28}  # longer texts wrap in their cell
+        body = max((stringWidth(t, st.fonts.regular, size) for t in texts), default=0.0)
+        need.append(PADDING + max(head, body))
+    spare = total - sum(need)
+    if spare < 0:
+        return [n * total / sum(need) for n in need]  # too narrow: every column gives way, long texts wrap
+    # the spare width first keeps headers on one line, then is shared in proportion
+    short = [max(w - n, 0.0) for w, n in zip(whole, need)]
+    given = min(1.0, spare / sum(short)) if sum(short) else 0.0
+    need = [n + s * given for n, s in zip(need, short)]
+    spare = total - sum(need)
+    return [n + spare * n / sum(need) for n in need]
 
 
 def support_text(axes: tuple[str, ...], fixed) -> str:

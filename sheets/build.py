@@ -119,6 +119,8 @@ def write_results(analysis: Analysis, json_path: str | Path | None = None, csv_d
 
 BUILD_STAGES = ("reading project", "analysis", "member checks", "diagrams", "figures", "results", "assembly", "writing files")
 CSV_CONTENTS = {
+    "nodes.csv": "every node: coordinates and the translations its support fixes",
+    "loads.csv": "every nodal load of every case as given, with the self-weight apart",
     "members.csv": "every member: ends, length, section, role, group",
     "forces.csv": "every member's force in every state",
     "reactions.csv": "every reaction in every state",

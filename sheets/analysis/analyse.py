@@ -83,6 +83,13 @@ def self_weight_loads(project: Project, case: LoadCase) -> np.ndarray:
     return loads
 
 
+def case_self_weight(project: Project, case: LoadCase) -> np.ndarray:
+    """The self-weight a case adds to its nodal loads (N); zero where the case asks for none."""
+    if not case.self_weight:
+        return np.zeros((project.n_nodes, project.dim))
+    return self_weight_loads(project, case)
+
+
 def _refuse_mechanism(project: Project, det: Determinacy, eq: Equilibrium, state_id: str, p_free: np.ndarray):
     modes = det.mechanism_modes
     if not modes.shape[1]:

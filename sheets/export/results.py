@@ -17,7 +17,7 @@ from typing import Any, Iterable, Mapping
 import numpy as np
 
 from sheets import __version__
-from sheets.analysis.analyse import Analysis
+from sheets.analysis.analyse import Analysis, case_self_weight
 from sheets.analysis.states import State
 from sheets.export.atomic import write_atomic
 from sheets.model.project import AXES
@@ -92,6 +92,31 @@ def _determinacy(analysis: Analysis) -> dict[str, Any]:
 
 
 
+def _basis(info) -> dict[str, Any] | None:
+    b = info.basis
+    if b is None:
+        return None
+    return {"design_code": b.design_code, "assumptions": list(b.assumptions),
+            "load_derivation": list(b.load_derivation), "notes": list(b.notes)}
+
+
+def _input_loads(analysis: Analysis) -> list[dict[str, Any]]:
+    """Each load case's nodal loads as given, and its self-weight apart (the states' ``loads`` hold their sum)."""
+    p = analysis.project
+    force = p.units.factor("force")
+    out = []
+    for case in p.cases:
+        weight = case_self_weight(p, case)
+        out.append({
+            "id": case.id,
+            "title": case.title,
+            "self_weight": bool(case.self_weight),
+            "applied": {p.node_ids[i]: _vec(case.loads[i] / force) for i in np.flatnonzero(np.abs(case.loads).max(axis=1) > 0)},
+            "self_weight_loads": {p.node_ids[i]: _vec(weight[i] / force) for i in np.flatnonzero(np.abs(weight).max(axis=1) > 0)},
+        })
+    return out
+
+
 def results_document(analysis: Analysis, extra: Mapping[str, Any] | None = None) -> dict[str, Any]:
     p = analysis.project
     u = p.units
@@ -114,6 +139,7 @@ def results_document(analysis: Analysis, extra: Mapping[str, Any] | None = None)
             "status": info.status,
             "source": Path(p.source).name,
             "fingerprint": p.fingerprint,
+            "basis": _basis(info),
         },
         "units": dict(u.units),
         "dimension": p.dim,
@@ -133,6 +159,7 @@ def results_document(analysis: Analysis, extra: Mapping[str, Any] | None = None)
             }
             for e, (mid, (a, b), L) in enumerate(zip(p.member_ids, p.ends, analysis.equilibrium.lengths))
         ],
+        "load_cases": _input_loads(analysis),
         "determinacy": _determinacy(analysis),
         "states": [_state(analysis, s) for s in analysis.states],
         "envelope": {
@@ -179,6 +206,14 @@ def results_tables(analysis: Analysis) -> dict[str, str]:
     ids = [s.id for s in states]
     f_unit, d_unit, l_unit = u.label("force"), u.label("displacement"), u.label("length")
     tables = {
+        "nodes.csv": _csv_text(
+            ["node"] + [f"{a} [{l_unit}]" for a in p.axes] + [f"fixed {a}" for a in p.axes],
+            ([nid] + list(xyz / length) + [bool(f) for f in p.fixed[i]] for i, (nid, xyz) in enumerate(zip(p.node_ids, p.coords))),
+        ),
+        "loads.csv": _csv_text(
+            ["case", "node"] + [f"applied f{a} [{f_unit}]" for a in p.axes] + [f"self-weight f{a} [{f_unit}]" for a in p.axes],
+            _load_rows(analysis),
+        ),
         "members.csv": _csv_text(
             ["member", "start", "end", f"length [{l_unit}]", "section", "role", "group"],
             ([mid, p.node_ids[a], p.node_ids[b], L / length, p.member_sections[e], p.member_roles[e], p.member_groups[e]]
@@ -218,6 +253,16 @@ def results_tables(analysis: Analysis) -> dict[str, str]:
              for n, nid in enumerate(p.node_ids) for a in range(p.dim)),
         )
     return tables
+
+
+def _load_rows(analysis: Analysis):
+    """One row per case and loaded node: the loads as given and the self-weight apart, in the force unit."""
+    p = analysis.project
+    force = p.units.factor("force")
+    for case in p.cases:
+        weight = case_self_weight(p, case)
+        for n in np.flatnonzero((np.abs(case.loads).max(axis=1) > 0) | (np.abs(weight).max(axis=1) > 0)):
+            yield [case.id, p.node_ids[n]] + list(case.loads[n] / force) + list(weight[n] / force)
 
 
 def write_results_json(analysis: Analysis, path: str | Path, extra: Mapping[str, Any] | None = None) -> Path:

@@ -29,6 +29,7 @@ from sheets.model.project import (
     ROLES,
     AnalysisOptions,
     Combination,
+    DesignBasis,
     DesignOptions,
     DrawingOptions,
     PolyhedralInput,
@@ -244,12 +245,13 @@ def _info(r: _Reader, data: dict) -> ProjectInfo:
         rev = r.table(rev, w)
         r.known_keys(rev, schema.REVISION, w)
         revisions.append(Revision(r.text(rev, "revision", w, required=True), _calendar_date(r, rev, "date", w, required=True), r.text(rev, "note", w)))
-    fields = {k: r.text(table, k, where) for k in schema.PROJECT if k not in ("revisions", "title", "template", "date")}
+    fields = {k: r.text(table, k, where) for k in schema.PROJECT if k not in ("revisions", "title", "template", "date", "basis")}
     fields["date"] = _calendar_date(r, table, "date", where)
     return ProjectInfo(
         title=r.text(table, "title", where, required=bool(table)),
         template=r.text(table, "template", where, "a4-portrait"),
         revisions=tuple(revisions),
+        basis=_basis(r, table.get("basis"), where + ("basis",)),
         **fields,
     )
 
@@ -289,6 +291,31 @@ def _calendar_date(r: _Reader, table: dict, key: str, where: Path_, *, required:
     else:
         r.problem(where + (key,), f"expected an ISO 8601 date (YYYY-MM-DD), got {value!r}", _DATE_HINT)
     return ""
+
+
+def _basis(r: _Reader, data: Any, where: Path_) -> DesignBasis | None:
+    """[project.basis]: the code the user names and their assumptions, kept as written."""
+    if data is None:
+        return None
+    table = r.table(data, where)
+    r.known_keys(table, schema.BASIS, where)
+
+    def lines(key: str) -> tuple[str, ...]:
+        value = table.get(key, [])
+        if isinstance(value, str):  # one paragraph given as text
+            value = [value]
+        if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
+            r.problem(where + (key,), f"expected text or a list of texts, got {value!r}",
+                      f'e.g. {key} = ["first point", "second point"]')
+            return ()
+        return tuple(v.strip() for v in value if v.strip())
+
+    return DesignBasis(
+        design_code=r.text(table, "design_code", where).strip(),
+        assumptions=lines("assumptions"),
+        load_derivation=lines("load_derivation"),
+        notes=lines("notes"),
+    )
 
 
 def _materials(r: _Reader, data: dict, units: DisplayUnits) -> dict[str, Material]:

@@ -32,6 +32,16 @@ class Revision:
 
 
 @dataclass(frozen=True)
+class DesignBasis:
+    """The engineer's design basis ([project.basis]), printed verbatim on the design basis sheet."""
+
+    design_code: str = ""  # the code the user names; the software holds none
+    assumptions: tuple[str, ...] = ()
+    load_derivation: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
 class ProjectInfo:
     """What the title block of every sheet shows."""
 
@@ -46,6 +56,7 @@ class ProjectInfo:
     status: str = ""
     template: str = "a4-portrait"
     revisions: tuple[Revision, ...] = ()
+    basis: DesignBasis | None = None  # None: the project file gives no [project.basis]
 
 
 @dataclass(frozen=True)

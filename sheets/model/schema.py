@@ -37,7 +37,9 @@ PROJECT = (
     "status",
     "template",
     "revisions",
+    "basis",
 )
+BASIS = ("design_code", "assumptions", "load_derivation", "notes")
 REVISION = ("revision", "date", "note")
 GEOMETRY = ("dimension", "vertical_axis", "nodes_file", "members_file")
 MATERIAL = ("elastic_modulus", "yield_strength", "density")

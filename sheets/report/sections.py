@@ -23,6 +23,7 @@ from sheets.analysis.design_states import design_states
 from sheets.analysis.member_checks import CHECK_TITLES, MemberChecks, group_summaries
 from sheets.model.project import AXES
 from sheets.report.document import Heading
+from sheets.report.echo import basis_given, case_load_table, long_table, member_table, node_table
 from sheets.report.figures import SheetFigure, state_label
 from sheets.report.tables import Styles, escape, fmt, key_value, table, ulabel
 from sheets.report.templates import Template
@@ -97,12 +98,6 @@ def figure(fig: SheetFigure, sheet: SheetSet, st: Styles, number: str = "") -> l
 
 def _force_unit(p) -> str:
     return ulabel(p.units, "force")
-
-
-def _rows_note(shown: int, total: int, what: str, csv: str, order: str) -> str:
-    if shown >= total:
-        return ""
-    return f"The {shown} {order} of {total} {what} are shown; all of them are in {csv}."
 
 
 # -- cover -------------------------------------------------------------------
@@ -199,8 +194,7 @@ def outcome_block(sheet: SheetSet, st: Styles) -> list:
     findings = o.findings(ulabel(u, "force"), u.factor("force"))
     rows = [[text] for text, _ in findings]
     return [Paragraph(f"Design outcome: {escape(verdict)}", st.h2),
-            table(st, ["What the indicative checks find (states: " + ", ".join(o.states[:8])
-                       + (" ..." if len(o.states) > 8 else "") + ")"], rows, widths=[sheet.width],
+            table(st, ["What the indicative checks find (states: " + ", ".join(o.states) + ")"], rows, widths=[sheet.width],
                   highlight=[i for i, (_, flag) in enumerate(findings) if flag]),
             Spacer(1, 4)]
 
@@ -220,7 +214,8 @@ def design_basis(sheet: SheetSet, st: Styles) -> list:
     u = p.units
     w = sheet.width
     out: list = [heading("Design basis", st, 0, "design-basis")]
-    out.append(Paragraph("Assumptions", st.h2))
+    out += basis_given(sheet, st)
+    out.append(Paragraph("Assumptions of the analysis", st.h2))
     method = {"auto": "equilibrium alone where the frame is statically determinate, linear-elastic compatibility "
                       "(stiffness method) where it is not",
               "elastic": "linear-elastic compatibility (stiffness method) for every state"}[p.options.method]
@@ -351,32 +346,15 @@ def model(sheet: SheetSet, st: Styles) -> list:
     if len(groups) > 1 or "" not in groups:
         out.append(Paragraph("Member groups", st.h2))
         rows = [[g or "(none)", str(len(es)), fmt(lengths[es].sum() / L, "length"),
-                 ", ".join(sorted({p.member_sections[e] or "-" for e in es}))[:60]] for g, es in groups.items()]
-        out.append(table(st, ["Group", "Members", f"Length [{ulabel(u, 'length')}]", "Sections"], rows[: sheet.template.table_rows * 2],
-                         numeric={1, 2}, total_width=w * 0.8))
-    out.append(Paragraph("Supports", st.h2))
-    supported = np.flatnonzero(p.fixed.any(axis=1))
-    rows_max = sheet.template.table_rows
-    rows = [[p.node_ids[n]] + [fmt(c / L, "length") for c in p.coords[n]] + ["".join(a for a, f in zip(p.axes, p.fixed[n]) if f)]
-            for n in supported[:rows_max]]
-    out.append(table(st, ["Node"] + [f"{a} [{ulabel(u, 'length')}]" for a in p.axes] + ["Fixed"], rows,
-                     numeric=set(range(1, p.dim + 1)), total_width=w * 0.6))
-    note = _rows_note(len(rows), len(supported), "supported nodes", "results.json (nodes)", "first")
-    if note:
-        out.append(para(note, st, "small"))
-    if p.n_members <= rows_max * 2:
-        out.append(Paragraph("Members", st.h2))
-        rows = [[mid, p.node_ids[a], p.node_ids[b], fmt(lengths[e] / L, "length"), p.member_sections[e] or "-",
-                 p.member_roles[e], p.member_groups[e] or "-"] for e, (mid, (a, b)) in enumerate(zip(p.member_ids, p.ends))]
-        out.append(table(st, ["Member", "Start", "End", f"Length [{ulabel(u, 'length')}]", "Section", "Role", "Group"],
-                         rows, numeric={3}, total_width=w))
-    else:
-        out.append(para(f"The {p.n_members} members (ends, length, section, role, group) are listed in csv/members.csv.", st))
-    loads = [f for f in sheet.figures if f.part == "loads"]
-    if loads:
-        out.append(Paragraph("Loads of each case", st.h2))
-    for fig in loads:
-        out += figure(fig, sheet, st)
+                 ", ".join(sorted({p.member_sections[e] or "-" for e in es}))] for g, es in groups.items()]
+        out.append(long_table(sheet, st, ["Group", "Members", f"Length [{ulabel(u, 'length')}]", "Sections"], rows,
+                              numeric={1, 2}, total_width=w * 0.8))
+    out += node_table(sheet, st)
+    out += member_table(sheet, st)
+    for case in p.cases:
+        out += case_load_table(sheet, st, case)
+        for fig in sheet.figures_for("loads", case.id):
+            out += figure(fig, sheet, st)
     return out
 
 
@@ -435,8 +413,8 @@ def states(sheet: SheetSet, st: Styles) -> list:
     a = sheet.analysis
     out: list = [heading("Forces in each load case and combination", st, 0, "states")]
     out.append(para("Tension positive. For each state: the member forces, the reactions, the checks on the solution "
-                    "and the figures. Tables of large frames list the members with the largest forces; "
-                    "csv/forces.csv and csv/reactions.csv carry every value.", st))
+                    "and the figures. The tables list every member and every support; "
+                    "csv/forces.csv and csv/reactions.csv carry the same values at full precision.", st))
     for i, state in enumerate(a.states):
         if i:
             out.append(PageBreak())
@@ -454,25 +432,18 @@ def part_forces(sheet: SheetSet, st: Styles, state) -> list:
     f = p.units.factor("force")
     t = state.forces
     largest = float(np.abs(t).max(initial=0.0))
-    rows_max = sheet.template.table_rows
     n_t = int((t > 1e-9 * largest).sum())
     n_c = int((t < -1e-9 * largest).sum())
     out: list = [Paragraph("Member forces", st.h2)]
     out.append(para(f"{n_t} members in tension, {n_c} in compression, {p.n_members - n_t - n_c} with no force. "
                     f"Largest tension {fmt(max(t.max(initial=0.0), 0.0) / f, 'force')} {_force_unit(p)}, "
                     f"largest compression {fmt(min(t.min(initial=0.0), 0.0) / f, 'force')} {_force_unit(p)}.", st))
-    if p.n_members <= rows_max:
-        order = np.arange(p.n_members)
-    else:
-        order = np.argsort(-np.abs(t), kind="stable")[:rows_max]
+    order = np.arange(p.n_members)
     lengths = sheet.analysis.equilibrium.lengths
     rows = [[p.member_ids[e], f"{p.node_ids[p.ends[e, 0]]}-{p.node_ids[p.ends[e, 1]]}",
              fmt(lengths[e] / p.units.factor("length"), "length"), fmt(t[e] / f, "force"), _sense(t[e], largest)] for e in order]
-    out.append(table(st, ["Member", "Nodes", f"Length [{ulabel(p.units, 'length')}]", f"Force [{_force_unit(p)}]", "Sense"], rows,
-                     numeric={2, 3}, total_width=sheet.width * 0.75))
-    note = _rows_note(len(rows), p.n_members, "members", "csv/forces.csv", "largest by |force|")
-    if note:
-        out.append(para(note, st, "small"))
+    out.append(long_table(sheet, st, ["Member", "Nodes", f"Length [{ulabel(p.units, 'length')}]", f"Force [{_force_unit(p)}]", "Sense"],
+                          rows, numeric={2, 3}, total_width=sheet.width * 0.75, two_columns=True))
     return out
 
 
@@ -482,20 +453,14 @@ def part_reactions(sheet: SheetSet, st: Styles, state) -> list:
     supported = np.flatnonzero(p.fixed.any(axis=1))
     if not len(supported):
         return []
-    rows_max = sheet.template.table_rows
     order = supported
-    if len(supported) > rows_max:
-        order = supported[np.argsort(-np.abs(state.reactions[supported]).max(axis=1), kind="stable")[:rows_max]]
     rows = [[p.node_ids[n]] + [fmt(state.reactions[n, k] / f, "force") if p.fixed[n, k] else "free" for k in range(p.dim)]
             for n in order]
     total = state.reactions.sum(axis=0) / f
     rows.append(["Sum"] + [fmt(v, "force") for v in total])
     out: list = [Paragraph("Reactions", st.h2),
-                 table(st, ["Node"] + [f"R{a} [{_force_unit(p)}]" for a in p.axes], rows, numeric=set(range(1, p.dim + 1)),
-                       total_width=sheet.width * 0.55)]
-    note = _rows_note(len(order), len(supported), "supported nodes", "csv/reactions.csv", "largest")
-    if note:
-        out.append(para(note, st, "small"))
+                 long_table(sheet, st, ["Node"] + [f"R{a} [{_force_unit(p)}]" for a in p.axes], rows,
+                            numeric=set(range(1, p.dim + 1)), total_width=sheet.width * 0.55, two_columns=True)]
     return out
 
 
@@ -569,19 +534,14 @@ def envelope(sheet: SheetSet, st: Styles) -> list:
     f = p.units.factor("force")
     if not env.over:
         return []
-    rows_max = sheet.template.table_rows
-    size = np.maximum(env.max_tension, -env.max_compression)
-    order = np.arange(p.n_members) if p.n_members <= rows_max else np.argsort(-size, kind="stable")[:rows_max]
+    order = np.arange(p.n_members)
     rows = [[p.member_ids[e], fmt(env.max_tension[e] / f, "force"), env.max_tension_state[e] or "-",
              fmt(env.max_compression[e] / f, "force"), env.max_compression_state[e] or "-"] for e in order]
     kind = "combinations" if sheet.analysis.combinations else "load cases"
     out: list = [heading("Envelopes", st, 0, "envelope"),
                  para(f"Largest tension and compression of each member over the {kind} ({escape(', '.join(env.over))}).", st),
-                 table(st, ["Member", f"Max tension [{_force_unit(p)}]", "State", f"Max compression [{_force_unit(p)}]", "State"],
-                       rows, numeric={1, 3}, total_width=sheet.width * 0.8)]
-    note = _rows_note(len(rows), p.n_members, "members", "csv/envelope.csv", "largest by |force|")
-    if note:
-        out.append(para(note, st, "small"))
+                 long_table(sheet, st, ["Member", f"Max tension [{_force_unit(p)}]", "State", f"Max compression [{_force_unit(p)}]",
+                                        "State"], rows, numeric={1, 3}, total_width=sheet.width * 0.8, two_columns=True)]
     return out
 
 
@@ -632,8 +592,8 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
         ("Members checked", f"{int((~np.isnan(c.governing)).sum())} of {p.n_members}"),
         ("Governing member", f"{p.member_ids[worst]}: utilisation {fmt(c.governing[worst], 'ratio')} "
                              f"({c.title(c.governing_check[worst])}; state {c.governing_state(worst) or '-'})"),
-        ("Members above a utilisation of 1.000", f"{len(failing)}" + (": " + ", ".join(p.member_ids[e] for e in failing[:20])
-                                                                         + (" ..." if len(failing) > 20 else "") if len(failing) else "")),
+        ("Members above a utilisation of 1.000", f"{len(failing)}" + (" (the first rows of the table of every member "
+                                                                         "checked, shaded)" if len(failing) else "")),
         ("Members a check could not be made for", str(len({e for e, _ in c.unchecked}))),
         ("Role conflicts (cable in compression, strut in tension)", str(len(c.role_conflicts))),
     ], w, 0.4))
@@ -645,11 +605,10 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
         hi = [i for i, g in enumerate(groups) if g.utilisation > 1]
         out.append(table(st, ["Group", "Members", "Checked", "Governing member", "Utilisation", "Check", "State"], rows,
                          numeric={1, 2, 4}, total_width=w, highlight=hi))
-    rows_max = sheet.template.table_rows
     g = np.nan_to_num(c.governing, nan=-1.0)
     order = np.argsort(-g, kind="stable")
-    order = [e for e in order if g[e] >= 0][:rows_max]
-    out.append(Paragraph("Members with the largest utilisation" if len(order) < p.n_members else "Every member", st.h2))
+    order = [e for e in order if g[e] >= 0]
+    out.append(Paragraph("Every member checked, largest utilisation first", st.h2))
     header = ["Member", "Section", f"Max T [{_force_unit(p)}]", f"Max C [{_force_unit(p)}]", f"A f_y/γ [{_force_unit(p)}]",
               f"N_cr [{_force_unit(p)}]", f"N_c,Rd [{_force_unit(p)}]", "L_b/r or L/r", "u tension", "u comp.", "u slender", "Governs"]
     rows = []
@@ -664,22 +623,19 @@ def member_checks(sheet: SheetSet, st: Styles) -> list:
                      f"{fmt(c.governing[e], 'ratio')} {c.governing_check[e].replace('tension_slenderness', 'L/r').replace('slenderness', 'L_b/r')}"])
     hi = [i for i, e in enumerate(order) if c.governing[e] > 1]
     shares = [7, 8, 7.5, 7.5, 7.5, 7.5, 7.5, 6.5, 6.5, 6.5, 6.5, 21]
-    out.append(table(st, header, rows, numeric=set(range(2, 11)), widths=[w * x / sum(shares) for x in shares], highlight=hi))
+    out.append(long_table(sheet, st, header, rows, numeric=set(range(2, 11)), widths=[w * x / sum(shares) for x in shares],
+                          highlight=hi))
     out += buckling_table(sheet, st)
-    out.append(para(f"Every member's checks are in csv/member_checks.csv. "
-                    f"{_rows_note(len(rows), int((g >= 0).sum()), 'checked members', 'csv/member_checks.csv', 'largest by utilisation')}",
-                    st, "small"))
+    out.append(para("The same values, member by member, are in csv/member_checks.csv.", st, "small"))
     if c.unchecked:
         out.append(Paragraph("Members a check could not be made for", st.h2))
-        rows = [[p.member_ids[e], why] for e, why in c.unchecked[:rows_max]]
-        out.append(table(st, ["Member", "Why"], rows, widths=[w * 0.2, w * 0.8]))
-        if len(c.unchecked) > rows_max:
-            out.append(para(f"{len(c.unchecked) - rows_max} more in csv/member_checks.csv.", st, "small"))
+        rows = [[p.member_ids[e], why] for e, why in c.unchecked]
+        out.append(long_table(sheet, st, ["Member", "Why"], rows, widths=[w * 0.2, w * 0.8]))
     if c.role_conflicts:
         out.append(Paragraph("Role conflicts", st.h2))
-        rows = [[p.member_ids[e], p.member_roles[e], why] for e, why in c.role_conflicts[:rows_max]]
-        out.append(table(st, ["Member", "Role", "Conflict"], rows, widths=[w * 0.2, w * 0.15, w * 0.65],
-                         highlight=list(range(len(rows)))))
+        rows = [[p.member_ids[e], p.member_roles[e], why] for e, why in c.role_conflicts]
+        out.append(long_table(sheet, st, ["Member", "Role", "Conflict"], rows, widths=[w * 0.2, w * 0.15, w * 0.65],
+                              highlight=list(range(len(rows)))))
     return out
 
 
@@ -690,7 +646,7 @@ def buckling_table(sheet: SheetSet, st: Styles) -> list:
     u = p.units
     f, L = u.factor("force"), u.factor("length")
     util = np.nan_to_num(c.utilisation["compression"], nan=-1.0)
-    order = [e for e in np.argsort(-util, kind="stable") if util[e] >= 0][: sheet.template.table_rows]
+    order = [e for e in np.argsort(-util, kind="stable") if util[e] >= 0]  # every compression member, most used first
     if not order:
         return []
     curve = c.compression_method == "buckling_curve"
@@ -707,8 +663,8 @@ def buckling_table(sheet: SheetSet, st: Styles) -> list:
         rows.append(row)
     numeric = set(range(1, len(header))) - {5}
     return [Paragraph("Buckling of the compression members", st.h2),
-            table(st, header, rows, numeric=numeric, total_width=sheet.width,
-                  highlight=[i for i, e in enumerate(order) if util[e] > 1])]
+            long_table(sheet, st, header, rows, numeric=numeric, total_width=sheet.width,
+                       highlight=[i for i, e in enumerate(order) if util[e] > 1])]
 
 
 # -- serviceability: displacements of the serviceability combinations ---------
@@ -752,14 +708,10 @@ def serviceability(sheet: SheetSet, st: Styles) -> list:
     moving = [(x.state, m) for x in s.states for m in x.support_movements]
     if moving:
         out.append(Paragraph("Support movements (along the directions the supports leave free)", st.h2))
-        rows_max = sheet.template.table_rows
-        shown = sorted(moving, key=lambda sm: -abs(sm[1][2]))[:rows_max]
-        out.append(table(st, ["Combination", "Node", "Axis", f"Movement [{d_unit}]"],
-                         [[state, n, a, fmt(v / D, "displacement")] for state, (n, a, v) in shown],
-                         numeric={3}, total_width=w * 0.6))
-        note = _rows_note(len(shown), len(moving), "support movements", "results.json (serviceability)", "largest")
-        if note:
-            out.append(para(note, st, "small"))
+        shown = sorted(moving, key=lambda sm: -abs(sm[1][2]))  # every one, largest first
+        out.append(long_table(sheet, st, ["Combination", "Node", "Axis", f"Movement [{d_unit}]"],
+                              [[state, n, a, fmt(v / D, "displacement")] for state, (n, a, v) in shown],
+                              numeric={3}, total_width=w * 0.6, two_columns=True))
     for x in s.states:
         for fig in sheet.figures_for("serviceability", x.state):
             out += figure(fig, sheet, st)
@@ -796,13 +748,12 @@ def sizing(sheet: SheetSet, st: Styles) -> list:
     out.append(table(st, ["State", f"V_T [{ulabel(u, 'volume')}]", f"V_C [{ulabel(u, 'volume')}]", f"Σ f·x / σ [{ulabel(u, 'volume')}]",
                           "Difference", "Check"], rows, numeric={1, 2, 3, 4}, total_width=sheet.width * 0.85,
                      highlight=[i for i, v in enumerate(s.states) if not v.passed]))
-    rows_max = sheet.template.table_rows
-    order = np.argsort(-s.areas, kind="stable")[:rows_max]
+    order = np.argsort(-s.areas, kind="stable")
     rows = [[p.member_ids[e], fmt(s.governing_force[e] / u.factor("force"), "force"), s.governing_state[e] or "-",
              fmt(s.areas[e] / area, "area"), fmt(s.volumes[e] / vol, "volume")] for e in order]
-    out.append(Paragraph("Largest required areas", st.h2))
-    out.append(table(st, ["Member", f"Force [{_force_unit(p)}]", "State", f"A [{ulabel(u, 'area')}]", f"V [{ulabel(u, 'volume')}]"],
-                     rows, numeric={1, 3, 4}, total_width=sheet.width * 0.7))
+    out.append(Paragraph("Required area of every member, largest first", st.h2))
+    out.append(long_table(sheet, st, ["Member", f"Force [{_force_unit(p)}]", "State", f"A [{ulabel(u, 'area')}]", f"V [{ulabel(u, 'volume')}]"],
+                          rows, numeric={1, 3, 4}, total_width=sheet.width * 0.7, two_columns=True))
     return out
 
 
@@ -812,7 +763,7 @@ def issued_files(sheet: SheetSet, st: Styles) -> list:
     if not sheet.issued:
         return []
     out: list = [heading("Files issued with these sheets", st, 0, "files"),
-                 para("These files sit beside this PDF and carry every value in full (the sheets summarise large tables). "
+                 para("These files sit beside this PDF and carry every value at full precision (the sheets print them rounded). "
                       "Each was produced by the same run, from the input identified by the fingerprint in the footer.", st)]
     out.append(table(st, ["File", "Content"], [[f.name, f.content] for f in sheet.issued],
                      widths=[sheet.width * 0.35, sheet.width * 0.65]))

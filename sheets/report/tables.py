@@ -36,7 +36,13 @@ FORMATS = {
     "volume": "{:.4g}",
     "displacement": "{:,.2f}",
     "factor": "{:g}",
+    # input echoed as given: 12 significant digits reproduce any value typed in the file while
+    # hiding the last-bit noise of the unit conversion (e.g. 1.008 kN -> N -> kN)
+    "given": "{:.12g}",
+    "significant6": "{:.6g}",  # a derived value (self-weight) to 6 significant digits
 }
+
+COMPACT_FONT = 6.5  # points: the smallest type a long table is set in (printed text stays at or above 6 pt)
 
 
 def fmt(value, kind: str) -> str:
@@ -102,25 +108,33 @@ def escape(text: str) -> str:
 
 def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[int] | None = None,
           widths: list[float] | None = None, highlight: list[int] | None = None, total_width: float | None = None,
-          repeat: bool = True) -> Table:
+          repeat: bool = True, compact: bool = False) -> Table:
     """A grid table with a shaded header repeated on every page; ``numeric`` columns right-aligned.
 
     ``highlight`` rows (0-based, excluding the header) are shaded to flag a check above its limit.
+    ``compact`` sets a long table in smaller type with tighter padding, so every row fits in fewer pages.
     """
     numeric = numeric or set()
-    head = [Paragraph(escape(h), styles.cell_head) for h in header]
-    body = [[Paragraph(escape(v), styles.cell) if isinstance(v, str) and len(v) > 28 else v for v in row] for row in rows]
+    cell, cell_head, pad = styles.cell, styles.cell_head, 1.5
+    if compact:
+        small = min(cell.fontSize, max(COMPACT_FONT, cell.fontSize - 1))
+        cell = ParagraphStyle("cell_compact", parent=cell, fontSize=small, leading=small * 1.15)
+        cell_head = ParagraphStyle("cell_head_compact", parent=cell_head, fontSize=small, leading=small * 1.15)
+        pad = 0.8
+    head = [Paragraph(escape(h), cell_head) for h in header]
+    body = [[Paragraph(escape(v), cell) if isinstance(v, str) and len(v) > 28 else v for v in row] for row in rows]
     if widths is None and total_width is not None:
         widths = _auto_widths(header, rows, total_width)
-    t = Table([head] + body, colWidths=widths, repeatRows=1 if repeat else 0, hAlign="LEFT")
-    size = styles.cell.fontSize
+    # splitByRow: a table longer than the page continues on the next one, under its repeated header
+    t = Table([head] + body, colWidths=widths, repeatRows=1 if repeat else 0, hAlign="LEFT", splitByRow=1)
+    size = cell.fontSize
     commands = [
-        ("FONT", (0, 0), (-1, -1), styles.fonts.regular, size),  # the header too: no cell falls back to Helvetica
+        ("FONT", (0, 0), (-1, -1), styles.fonts.regular, size, cell.leading),  # the header too: no cell falls back to Helvetica
         ("GRID", (0, 0), (-1, -1), 0.3, GRID),
         ("BACKGROUND", (0, 0), (-1, 0), HEAD_FILL),
         ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
-        ("TOPPADDING", (0, 0), (-1, -1), 1.5),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+        ("TOPPADDING", (0, 0), (-1, -1), pad),
+        ("BOTTOMPADDING", (0, 0), (-1, -1), pad),
         ("LEFTPADDING", (0, 0), (-1, -1), 3),
         ("RIGHTPADDING", (0, 0), (-1, -1), 3),
     ]

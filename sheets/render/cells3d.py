@@ -21,6 +21,7 @@ import numpy as np
 from sheets.export.atomic import atomic_path
 from sheets.reciprocal.cells import NodeCell, NodeCells, node_cells
 from sheets.render import palette
+from sheets.render.triad import add_triad
 from sheets.render.offscreen import offscreen_plotter
 
 WINDOW = (1600, 1200)
@@ -144,6 +145,7 @@ def node_cells_figure(analysis, state_id: str, path, cells: NodeCells | None = N
         lines.append(f"flat nodes (polygon, drawn in the gallery): {', '.join(flat[:12])}{' ...' if len(flat) > 12 else ''}")
     plotter.add_text("\n".join(lines), position="upper_left", font_size=9, color="black")
     plotter.add_legend(_legend_entries(), bcolor="white", face="rectangle", size=(0.36, 0.18), loc="lower left")
+    add_triad(plotter)
     plotter.view_isometric()
     plotter.enable_parallel_projection()
     plotter.camera.zoom(0.8)  # room for the legend and the text block
@@ -193,6 +195,7 @@ def cell_gallery_figure(analysis, state_id: str, path, nodes=None, cells: NodeCe
             plotter.add_point_labels(np.array(centres), labels, font_size=11, point_size=1, shape_opacity=0.6,
                                      always_visible=True)
         plotter.add_text(f"node {cell.node} ({cell.kind})", font_size=10, color="black")
+        add_triad(plotter)
         plotter.view_isometric()
         plotter.enable_parallel_projection()
         plotter.camera.parallel_scale = 0.75 * size
@@ -366,6 +369,7 @@ def polar_diagram_figure(analysis, state_id: str, path, polar) -> Path:
     plotter.add_text("\n".join(lines), position="upper_left", font_size=9, color="black")
     plotter.add_legend([["member in tension", palette.TENSION], ["member in compression", palette.COMPRESSION]],
                        bcolor="white", face="rectangle", size=(0.3, 0.1), loc="lower left")
+    add_triad(plotter)
     plotter.view_isometric()
     plotter.enable_parallel_projection()
     plotter.camera.zoom(0.8)  # room for the legend and the text block

@@ -8,9 +8,11 @@ Three kinds, each a matplotlib Figure built without pyplot (no global state):
   (tension bluish green, compression vermillion, zero-force grey; line width
   proportional to |force|), with its loads (black) and reactions (sky blue).
 
-A 3D frame is drawn as orthographic views (the project's [drawing] views:
-plan, front, side, axonometric), one panel each. Every figure has a legend and
-a scale: a length scale bar, and for forces the width and arrow scales.
+A 3D frame is drawn as orthographic projections (the project's [drawing]
+views: plan, front, side, axonometric), one panel each, titled with the plane
+it projects onto and carrying an axis triad; all panels share one scale.
+Every figure has a legend and a scale: one length scale bar (true in every
+view), and for forces the width and arrow scales.
 Labels are drawn for frames up to ``labels_up_to`` members; larger frames are
 drawn without them (the tables and CSV files carry every id).
 """
@@ -26,8 +28,9 @@ from matplotlib.lines import Line2D
 
 from sheets.model.project import Project
 from sheets.model.schema import NAMED_DIRECTIONS
-from sheets.reciprocal.projection import plane_basis
+from sheets.reciprocal.projection import plane_basis, plane_name
 from sheets.render import palette
+from sheets.render.triad import draw_triad
 
 PANEL_INCHES = 6.4  # width of a single-view figure
 FONT = 6.5
@@ -53,7 +56,7 @@ def _layout(project: Project):
         ax.set_aspect("equal", adjustable="datalim")
         ax.set_axis_off()
         if name:
-            ax.set_title(f"{name} view", fontsize=FONT + 1)
+            ax.set_title(f"{name} view: {plane_name(NAMED_DIRECTIONS[name])}", fontsize=FONT + 1)
         axes.append(ax)
     return fig, axes, views, xy
 
@@ -66,18 +69,22 @@ def _legend(fig: Figure, handles, title: str, ncol: int) -> float:
 
 
 def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
-    """Size the figure, and each row of panels, to the drawing's aspect: no empty bands on the page."""
-    aspects = []
+    """Size the figure, and each row of panels, to the drawing: every view at one common scale (so the one
+    scale bar holds for all of them), rows as tall as their tallest view, no empty bands on the page."""
+    spans = []
     for ax in axes:
         ax.margins(0.03)
         ax.autoscale_view()
         (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
-        aspects.append(min(max((y1 - y0) / max(x1 - x0, 1e-12), 0.12), 1.4))
+        spans.append(((x0 + x1) / 2, (y0 + y1) / 2, max(x1 - x0, 1e-12), max(y1 - y0, 1e-12)))
     cols = 1 if len(axes) == 1 else 2
-    rows = [aspects[r:r + cols] for r in range(0, len(axes), cols)]
-    title = 0.22 if len(axes) > 1 else 0.0
     panel = PANEL_INCHES / cols
-    heights = [panel * max(row) for row in rows]
+    inner = panel - 0.04
+    # inches per drawing unit, common to every view: the widest view fills its panel, none taller than 1.4 panels
+    per_unit = min(min(inner / w, 1.4 * inner / h) for _, _, w, h in spans)
+    rows = [spans[r:r + cols] for r in range(0, len(axes), cols)]
+    title = 0.22 if len(axes) > 1 else 0.0
+    heights = [max(max(h * per_unit for _, _, _, h in row), 0.12 * inner) for row in rows]
     height = sum(heights) + title * len(rows) + legend_inches
     fig.set_size_inches(PANEL_INCHES, height)
     top = height
@@ -86,14 +93,26 @@ def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
         for c in range(cols):
             k = r * cols + c
             if k < len(axes):
+                cx, cy, _, _ = spans[k]
+                axes[k].set_xlim(cx - inner / per_unit / 2, cx + inner / per_unit / 2)
+                axes[k].set_ylim(cy - row_height / per_unit / 2, cy + row_height / per_unit / 2)
                 axes[k].set_position(((c * panel + 0.02) / PANEL_INCHES, (top - row_height) / height,
-                                      (panel - 0.04) / PANEL_INCHES, row_height / height))
+                                      inner / PANEL_INCHES, row_height / height))
         top -= row_height
     return fig
 
 
 def _extent(xy: np.ndarray) -> float:
     return float(np.ptp(xy, axis=0).max()) if len(xy) > 1 else 1.0
+
+
+def _furniture(axes, views, xys, project: Project) -> None:
+    """One length scale bar (all views share its scale, see ``_finish``) and an axis triad in every 3D view."""
+    note = " (every view)" if len(axes) > 1 else ""
+    _scale_bar(axes[0], xys[0], project.units.label("length") + note, project.units.factor("length"))
+    if project.dim == 3:
+        for ax, (_, proj) in zip(axes, views):
+            draw_triad(ax, proj.T)
 
 
 def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
@@ -193,7 +212,7 @@ def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
             ax.scatter(xy[:, 0], xy[:, 1], s=6, color=palette.NODE, zorder=3)
             _labels(ax, project, xy)
         _supports(ax, project, xy, proj, 40 if labelled else 12)
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    _furniture(axes, views, xys, project)
     handles = [Line2D([], [], color=palette.LABEL, lw=0.8, label="member"),
                Line2D([], [], marker="^", ls="", mfc="white", mec=palette.NODE, label="support (fixed axes named)")]
     note = "" if labelled else f" (labels omitted above {labels_up_to} members)"
@@ -220,7 +239,7 @@ def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
                 tail = xy[n] - (v @ proj) * scale
                 ax.annotate(f"{np.linalg.norm(v) / f_factor:.3g}", tail, fontsize=FONT - 0.5, ha="center", va="bottom",
                             xytext=(0, 2), textcoords="offset points")
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    _furniture(axes, views, xys, project)
     handles = [Line2D([], [], color=palette.LOAD, lw=2, label=f"load (arrow {0.12:.0%} of frame size = {largest / f_factor:.3g} {f_unit})"),
                Line2D([], [], color=palette.ZERO_FORCE, lw=0.7, label="member")]
     if project.dim == 3:
@@ -248,7 +267,7 @@ def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, react
         _arrows(ax, xy[supported], reactions[supported] @ proj, palette.REACTION, scale, head, tail_at_node=True)
         if project.n_members <= labels_up_to:
             _labels(ax, project, xy, nodes=False)
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    _furniture(axes, views, xys, project)
     thick = palette.line_width(largest, largest)
     half = palette.line_width(largest / 2, largest)
     handles = [

@@ -16,6 +16,7 @@ import numpy as np
 from sheets.reciprocal.cells import node_cells
 from sheets.reciprocal.minkowski_sum import MinkowskiView, minkowski_view
 from sheets.render import palette
+from sheets.render.triad import add_triad
 from sheets.render.cells3d import SHADING, _plotter, _save, _save_figure, polygons_mesh
 
 
@@ -140,6 +141,7 @@ def _figure_3d(analysis, view: MinkowskiView, path: Path) -> Path:
     plotter.add_text("\n".join(lines), position="upper_left", font_size=8, color="black")
     plotter.add_legend([["member in tension", palette.TENSION], ["member in compression", palette.COMPRESSION],
                         ["node force cell", "#BBBBBB"]], bcolor="white", face="rectangle", size=(0.3, 0.14), loc="lower left")
+    add_triad(plotter)
     plotter.view_isometric()
     plotter.enable_parallel_projection()
     plotter.camera.zoom(0.8)  # room for the legend and the text block

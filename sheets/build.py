@@ -129,7 +129,7 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     checks = member_checks(analysis)
     sizing = size_members(analysis)
     note("diagrams")
-    diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress)
+    diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress, template.labels_up_to)
     note("figures")
     figures, notes = collect_figures(analysis, template, progress, diagrams=diagrams)
     out.mkdir(parents=True, exist_ok=True)
@@ -231,6 +231,7 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     from sheets.export.dxf import write_diagram_dxf
     from sheets.reciprocal.diagram import force_diagram
     from sheets.render.diagram2d import form_force_figure, verification_figure
+    from sheets.report.templates import load_template
 
     note = progress or (lambda _m: None)
     if fmt not in DRAW_FORMATS:
@@ -238,6 +239,7 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     note("reading project")
     source = Path(path)
     project = load_project(source)
+    labels_up_to = load_template(project.info.template, source.parent, project.source).labels_up_to  # as in the sheets
     analysis = analyse(project, progress)
     known = [s.id for s in analysis.states]
     wanted = list(state_ids or project.drawing.states or known)
@@ -254,13 +256,14 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
         note(f"diagram {sid}")
         diagram = force_diagram(project, analysis.state(sid))
         stem = _file_stem(sid)
-        files.append(form_force_figure(diagram, out / f"{stem}-diagrams.{fmt}", fmt))
+        files.append(form_force_figure(diagram, out / f"{stem}-diagrams.{fmt}", fmt, labels_up_to=labels_up_to))
         files.append(verification_figure(diagram, out / f"{stem}-closure.{fmt}", fmt))
         if project.dim == 3:
             from sheets.render.view3d import views_figure
 
             note(f"3D views {sid}")
-            files.append(views_figure(diagram, out / f"{stem}-views.png", "png", views=project.drawing.views))
+            files.append(views_figure(diagram, out / f"{stem}-views.png", "png", views=project.drawing.views,
+                                      labels_up_to=labels_up_to))
         if dxf:
             files.append(write_diagram_dxf(diagram, out / f"{stem}.dxf"))
         if diagram_json:

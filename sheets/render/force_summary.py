@@ -17,11 +17,12 @@ from __future__ import annotations
 
 import numpy as np
 from matplotlib.cm import ScalarMappable
-from matplotlib.colors import BoundaryNorm, LinearSegmentedColormap
+from matplotlib.colors import BoundaryNorm, LinearSegmentedColormap, to_hex
 from matplotlib.figure import Figure
 
 from sheets.model.project import Project
 from sheets.render import palette
+from sheets.render.diagram2d import _add_lines
 from sheets.render.form_figure import FONT, PANEL_INCHES, _finish, _furniture, _layout, _supports
 
 CLASSES_PER_SIDE = 8  # colour classes on each side of zero: few enough to merge lines of one colour on the page
@@ -43,19 +44,15 @@ def _classes(forces: np.ndarray, bounds: np.ndarray) -> np.ndarray:
 
 
 def _members(ax, project: Project, xy: np.ndarray, forces: np.ndarray, cmap, bounds) -> None:
-    """Members coloured by class, weak under strong; one class is one colour and one width, so the
-    recorder merges each class into a single path."""
-    from matplotlib.collections import LineCollection
-
+    """Members coloured by class, weak under strong; one class is one colour and one width, so a large
+    frame's members are drawn as one path per class (diagram2d._add_lines)."""
     klass = _classes(forces, bounds)
     strength = np.abs(klass - (CLASSES_PER_SIDE - 0.5))  # 0.5 near zero .. CLASSES_PER_SIDE - 0.5 at the ends
     order = np.lexsort((klass, strength))
     centres = (bounds[:-1] + bounds[1:]) / 2
-    norm = BoundaryNorm(bounds, cmap.N)
-    colours = cmap(norm(centres))[klass[order]]
-    widths = (0.25 + 1.0 * strength / CLASSES_PER_SIDE)[order]
-    ax.add_collection(LineCollection(xy[project.ends[order]], colors=colours, linewidths=widths, capstyle="butt",
-                                     zorder=2))
+    hexes = [to_hex(c) for c in cmap(BoundaryNorm(bounds, cmap.N)(centres))]
+    widths = 0.25 + 1.0 * strength / CLASSES_PER_SIDE
+    _add_lines(ax, xy[project.ends[order]], [hexes[k] for k in klass[order]], widths[order].tolist())
 
 
 def _histogram(ax, forces: np.ndarray, factor: float, unit: str) -> None:

@@ -22,7 +22,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from matplotlib.collections import LineCollection, PolyCollection
+from matplotlib.collections import PolyCollection
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
@@ -30,6 +30,7 @@ from sheets.model.project import Project
 from sheets.model.schema import NAMED_DIRECTIONS
 from sheets.reciprocal.projection import plane_basis, plane_name
 from sheets.render import palette
+from sheets.render.diagram2d import _add_lines
 from sheets.render.triad import draw_triad
 
 PANEL_INCHES = 6.4  # width of a single-view figure
@@ -133,8 +134,12 @@ def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
 
 
 def _members(ax, project: Project, xy: np.ndarray, colours, widths, zorder=2):
-    segs = xy[project.ends]
-    ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, capstyle="round", zorder=zorder))
+    """Members as lines (one colour or one per member); large frames gathered into a path per colour and
+    width (diagram2d._add_lines), which matplotlib and the vector recorder draw in one go."""
+    m = project.n_members
+    colours = [colours] * m if isinstance(colours, str) else list(colours)
+    widths = [float(widths)] * m if np.isscalar(widths) else list(widths)
+    _add_lines(ax, xy[project.ends], colours, widths, zorder=zorder)
 
 
 def _labels(ax, project: Project, xy: np.ndarray, members: bool = True, nodes: bool = True):

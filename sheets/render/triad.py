@@ -60,6 +60,13 @@ def draw_triad(ax, basis: np.ndarray) -> bool:
 def add_triad(plotter) -> bool:
     """VTK's orientation marker in the lower-right corner of the plotter's active renderer, in the triad colours."""
     colours = palette.AXIS_COLOURS
-    plotter.add_axes(interactive=False, line_width=3, x_color=colours["x"], y_color=colours["y"], z_color=colours["z"],
-                     xlabel="x", ylabel="y", zlabel="z", color=palette.LABEL, viewport=(0.83, 0.0, 1.0, 0.22))
+    actor = plotter.add_axes(interactive=False, line_width=4, x_color=colours["x"], y_color=colours["y"],
+                             z_color=colours["z"], xlabel="x", ylabel="y", zlabel="z", color=palette.LABEL,
+                             viewport=(0.8, 0.0, 1.0, 0.25), cone_radius=0.5, label_size=(0.3, 0.12))
+    for axis in "XYZ":  # flat colours (ambient light only): the arrows keep the palette's colours in every view
+        for part in ("Shaft", "Tip"):
+            prop = getattr(actor, f"Get{axis}Axis{part}Property")()
+            prop.SetAmbient(1.0)
+            prop.SetDiffuse(0.0)
+            prop.SetSpecular(0.0)
     return True

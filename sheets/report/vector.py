@@ -127,8 +127,30 @@ def _style_operators(style: _Style) -> str:
     return " ".join(ops)
 
 
+_WORDS = {MplPath.MOVETO: "%.2f %.2f m", MplPath.LINETO: "%.2f %.2f l", MplPath.CLOSEPOLY: "h"}
+
+
 def _code(path: MplPath, transform, clip=None, simplify=None) -> str:
-    """Matplotlib path -> PDF path operators (m, l, c, h) in points, two decimals."""
+    """Matplotlib path -> PDF path operators (m, l, c, h) in points, two decimals.
+
+    The segments are those ``path.iter_segments`` yields (matplotlib's own cleaning: NaNs, clip box,
+    simplification); a path of straight segments only is formatted in one go instead of walked."""
+    if not len(path):
+        return ""
+    cleaned = path.cleaned(transform=transform, remove_nans=True, clip=clip, simplify=simplify, curves=True)
+    codes = cleaned.codes
+    stop = np.flatnonzero(codes == MplPath.STOP)
+    end = int(stop[0]) if len(stop) else len(codes)
+    codes = codes[:end]
+    if np.isin(codes, (MplPath.MOVETO, MplPath.LINETO, MplPath.CLOSEPOLY)).all():
+        keep = codes != MplPath.CLOSEPOLY
+        template = " ".join(_WORDS[c] for c in codes.tolist())
+        return template % tuple(cleaned.vertices[:end][keep].ravel().tolist())
+    return _walk(path, transform, clip, simplify)
+
+
+def _walk(path: MplPath, transform, clip=None, simplify=None) -> str:
+    """``_code`` segment by segment (curves; and the reference for the one-go route)."""
     out = []
     last = (0.0, 0.0)
     for verts, code in path.iter_segments(transform, clip=clip, simplify=simplify, curves=True):
@@ -256,15 +278,15 @@ def merge_strokes(ops: list) -> list:
     The page is the same: an opaque stroke paints the union of its subpaths, and PDF restarts the
     dash pattern at each subpath. Fills and translucent strokes are left apart (overlaps would differ).
     """
-    out: list = []
+    runs: list[list] = []  # [first op, [codes]]: codes joined once at the end (no quadratic concatenation)
     for op in ops:
-        prev = out[-1] if out else None
-        if (op[0] == "path" and op[4] == "S" and op[3] == (1.0, 1.0) and prev is not None and prev[0] == "path"
-                and prev[4] == "S" and prev[2:] == op[2:]):
-            out[-1] = ("path", f"{prev[1]} {op[1]}", *op[2:])
-        else:
-            out.append(op)
-    return out
+        if runs and op[0] == "path" and op[4] == "S" and op[3] == (1.0, 1.0):
+            first = runs[-1][0]
+            if first[0] == "path" and first[4] == "S" and first[2:] == op[2:]:
+                runs[-1][1].append(op[1])
+                continue
+        runs.append([op, [op[1]] if op[0] == "path" else None])
+    return [op if codes is None or len(codes) == 1 else ("path", " ".join(codes), *op[2:]) for op, codes in runs]
 
 
 class Recorder(RendererBase):

@@ -3,13 +3,22 @@
 from __future__ import annotations
 
 import re
+import sys
+from dataclasses import replace
+from pathlib import Path
 
 import numpy as np
 import pdfplumber
+import pytest
+from matplotlib.colors import to_hex
 
 from sheets.analysis import analyse
 from sheets.analysis.member_checks import member_checks
 from sheets.model import load_project
+from sheets.reciprocal.stage import project_diagrams
+from sheets.render import palette
+from sheets.render.force_summary import force_summary_figure
+from sheets.report import figures
 from sheets.report.assemble import assemble
 from sheets.report.templates import load_template
 
@@ -88,3 +97,77 @@ def test_tables_show_the_largest_and_name_the_csv(tmp_path):
     assert [p[0] for p in printed] == expected
     assert "Every member's checks are in csv/member_checks.csv." in " ".join(text.split())
     assert f"The {m} members (ends, length, section, role, group) are listed in csv/members.csv." in " ".join(text.split())
+
+
+# -- frames above the label limit: a force summary, not their diagrams ------------
+
+BENCH = Path(__file__).resolve().parents[2] / "bench"
+
+
+def _grid_analysis(folder, bays=12):
+    """The benchmark's double-layer roof grid (bench/grids.py, invented), 8 x bays^2 members."""
+    sys.path.insert(0, str(BENCH))
+    try:
+        from grids import double_layer_grid, write_project
+    finally:
+        sys.path.remove(str(BENCH))
+    return analyse(load_project(write_project(double_layer_grid(bays, bays), folder)))
+
+
+@pytest.fixture(scope="module")
+def grid(tmp_path_factory):
+    return _grid_analysis(tmp_path_factory.mktemp("grid"))
+
+
+def test_a_large_frame_gets_the_summary_not_its_diagrams(grid):
+    template = load_template("a4-portrait")
+    assert grid.project.n_members == 1152 > template.labels_up_to
+    ids = [s.id for s in figures.drawn_states(grid)]
+    diagrams = project_diagrams(grid, ids, members_up_to=template.labels_up_to)
+    assert all(d.force is None and d.cells is None and d.minkowski is None for d in diagrams.values())
+    assert all("label limit of 120" in d.problems[0] for d in diagrams.values())
+    sources = tuple(s for s in figures.SOURCES if s.name != "model" and s.name != "loads")
+    found, notes = figures.collect_figures(grid, template, workers=1, sources=sources, diagrams=diagrams)
+    assert [f.key for f in found] == [f"summary-{sid}" for sid in ids] and notes == ()
+    summary = found[0]
+    assert summary.part == "force_diagram" and summary.vector is not None
+    assert "not drawn" in summary.caption and "sheets draw" in summary.caption
+    # the same frame under a template whose limit it fits gets the full diagrams again
+    roomy = replace(template, labels_up_to=grid.project.n_members)
+    assert not figures.summarised(grid, roomy) and figures.summarised(grid, template)
+
+
+def test_the_summary_scales_carry_the_extremes_of_the_forces(grid):
+    state = grid.state("gravity")
+    t = np.asarray(state.forces)
+    factor = grid.project.units.factor("force")  # kN
+    fig = force_summary_figure(grid.project, t, "gravity")
+    views = len(grid.project.drawing.views)
+    colour_bar, histogram, table = fig.axes[views:]
+    # colour bar: symmetric about zero, ends at the largest |force|
+    assert colour_bar.get_xlim() == pytest.approx((-np.abs(t).max() / factor, np.abs(t).max() / factor))
+    # histogram: tension and compression apart, every member counted once, extremes inside the end bars
+    zero = np.abs(t) <= palette.ZERO_FORCE_RELATIVE * np.abs(t).max()
+    by_colour = {}
+    for bar in histogram.patches:
+        colour = to_hex(bar.get_facecolor())
+        by_colour.setdefault(colour, []).append((bar.get_x(), bar.get_x() + bar.get_width(), bar.get_height()))
+    tension, compression = by_colour[palette.TENSION.lower()], by_colour[palette.COMPRESSION.lower()]
+    assert sum(h for *_, h in tension) == np.sum((t > 0) & ~zero)
+    assert sum(h for *_, h in compression) == np.sum((t < 0) & ~zero)
+    low = min(x0 for x0, _, h in compression if h > 0)
+    high = max(x1 for _, x1, h in tension if h > 0)
+    assert low <= t.min() / factor < low + (high - low) / 10 and high - (high - low) / 10 < t.max() / factor <= high
+    legend = [x.get_text() for x in histogram.get_legend().get_texts()]
+    assert f"largest {t.max() / factor:,.4g}" in legend[1] and f"largest {t.min() / factor:,.4g}" in legend[0]
+    # the table of extremes: the largest tension first, the largest compression after the tensions
+    cells = {(r, c): cell.get_text().get_text() for (r, c), cell in table.tables[0].get_celld().items()}
+    ids = grid.project.member_ids
+    assert cells[(1, 0)] == ids[int(np.argmax(t))] and cells[(6, 0)] == ids[int(np.argmin(t))]
+    assert float(cells[(1, 1)].replace(",", "")) == pytest.approx(t.max() / factor, rel=1e-3)
+
+
+def test_roundoff_closure_is_one_line_of_text():
+    assert "round-off only" in figures.closure_line(3e-14, 1e-6)
+    assert "within the tolerance" in figures.closure_line(2e-8, 1e-6)
+    assert "BEYOND THE TOLERANCE" in figures.closure_line(1e-3, 1e-6)

@@ -275,7 +275,8 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
             from sheets.reciprocal.stage import state_diagrams
 
             prepared = state_diagrams(analysis, sid, force=diagram)  # the force diagram above, not built again
-            files.extend(polyhedral_outputs(analysis, sid, out, stem, fmt, cells, minkowski, meshes, prepared))
+            files.extend(polyhedral_outputs(analysis, sid, out, stem, fmt, cells, minkowski, meshes, prepared,
+                                            labels_up_to=labels_up_to))
         drawn.append(DrawnState(sid, diagram.n_edges, diagram.faces.count, len(diagram.crossings), diagram.closure_error,
                                 diagram.load_line_error, diagram.passed, diagram.embedding.note))
     if on_state is not None:

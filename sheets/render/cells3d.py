@@ -333,8 +333,9 @@ def _gallery_2d(analysis, state_id: str, chosen, path: Path) -> Path:
     return _save_figure(fig, path)
 
 
-def polar_diagram_figure(analysis, state_id: str, path, polar) -> Path:
-    """The connected polyhedral force diagram (polarity): one polygon per member, coloured by force.
+def polar_diagram_figure(analysis, state_id: str, path, polar, labels_up_to: int | None = None) -> Path:
+    """The connected polyhedral force diagram (polarity): one polygon per member, coloured by force, labelled
+    up to ``labels_up_to`` members (the sheet set's label limit; None: always).
 
     ``polar`` is a sheets.reciprocal.polarity.ProjectPolarity with a diagram.
     """
@@ -357,7 +358,7 @@ def polar_diagram_figure(analysis, state_id: str, path, polar) -> Path:
     if pts:
         plotter.add_mesh(polygons_mesh(pts, loops, colours), scalars="rgb", rgb=True, opacity=0.75, show_edges=True,
                          edge_color="#333333", line_width=0.6, **SHADING)
-        if project.n_members <= 40:
+        if labels_up_to is None or project.n_members <= labels_up_to:
             plotter.add_point_labels(np.array(centres), labels, font_size=10, point_size=1, shape_opacity=0.5,
                                      always_visible=True)
     use = "from the given heights" if polar.use == "generative" else "fitted to the analysed forces"

@@ -279,7 +279,7 @@ def _polar(analysis: Analysis, template: Template, scratch: Path, state, prepare
                      "One connected polyhedral force diagram from a stress function lifted over the cell complex: "
                      "each member is a planar polygon perpendicular to it with area equal to its force (bluish green "
                      "tension, vermillion compression); around each node the polygons close into a cell.",
-                     analysis, scratch, state, vector=False, inputs={"polar": polar})
+                     analysis, scratch, state, vector=False, inputs={"polar": polar, "labels_up_to": template.labels_up_to})
 
 
 def _has_complex(analysis: Analysis) -> list:
@@ -327,7 +327,7 @@ SOURCES: tuple[Source, ...] = (
                   "The sum (1 - s) form + s force: every member becomes a rectangle (2D) or prism (3D) whose size is "
                   "proportional to |force| x length, its share of the load path (bluish green tension, vermillion "
                   "compression); the totals are set beside Maxwell's load path theorem.", vector_dims=(2,),
-                  inputs=_prepared_view),
+                  inputs=_prepared_view, labels=True),
 )
 
 

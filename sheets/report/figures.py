@@ -144,7 +144,8 @@ class Source:
 
 def _model(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
     p = analysis.project
-    views = "" if p.dim == 2 else f" Orthographic views: {', '.join(p.drawing.views)}."
+    views = "" if p.dim == 2 else (f" Orthographic views: {', '.join(p.drawing.views)}, each a projection onto the plane "
+                                   "named above it with an axis triad, all at the one scale of the scale bar.")
     labels = ("Node and member labels are the project's ids." if p.n_members <= template.labels_up_to
               else f"Labels are omitted for frames above {template.labels_up_to} members; the tables and CSV files carry every id.")
     yield SheetFigure("form-model", "model", None, "Form diagram: geometry, labels and supports",

@@ -526,7 +526,7 @@ def form_force_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None =
     units = diagram.units
     plane = _projection_title(diagram)
     ax_form.set_title("Form diagram" + (f", {plane}" if plane else ""), fontsize=FONT + 2)
-    ax_force.set_title("Force diagram" + (f", {plane}: edges foreshortened, labels give the true force "
+    ax_force.set_title("Force diagram" + (f", {plane}\nedges foreshortened: labels give the true force "
                                           f"({units.label('force')})" if plane else ""), fontsize=FONT + 2)
     if plane:
         for ax in (ax_form, ax_force):

@@ -62,7 +62,7 @@ def add_triad(plotter) -> bool:
     colours = palette.AXIS_COLOURS
     actor = plotter.add_axes(interactive=False, line_width=4, x_color=colours["x"], y_color=colours["y"],
                              z_color=colours["z"], xlabel="x", ylabel="y", zlabel="z", color=palette.LABEL,
-                             viewport=(0.8, 0.0, 1.0, 0.25), cone_radius=0.5, label_size=(0.3, 0.12))
+                             viewport=(0.76, 0.0, 1.0, 0.3), cone_radius=0.5, label_size=(0.3, 0.12))
     for axis in "XYZ":  # flat colours (ambient light only): the arrows keep the palette's colours in every view
         for part in ("Shaft", "Tip"):
             prop = getattr(actor, f"Get{axis}Axis{part}Property")()

@@ -32,7 +32,7 @@ from matplotlib.figure import Figure
 
 from sheets.model.schema import NAMED_DIRECTIONS
 from sheets.reciprocal.diagram import ForceDiagram, force_diagram
-from sheets.reciprocal.projection import plane_basis
+from sheets.reciprocal.projection import plane_basis, plane_name
 from sheets.render import palette
 from sheets.render.offscreen import offscreen_plotter
 from sheets.render.diagram2d import FONT, ROLE_STYLE, _edge_tag, _round_length, _true_force, role_handles, save_figure
@@ -206,7 +206,9 @@ def view_png(diagram: ForceDiagram, which: str, view, path: str | Path) -> Path:
 
 
 def _view_label(view) -> str:
-    return f"{view} view" if isinstance(view, str) else "view along (" + ", ".join(f"{v:.2g}" for v in view) + ")"
+    """The view's name and, on a second line, the plane it projects onto."""
+    direction = NAMED_DIRECTIONS[view] if isinstance(view, str) else view
+    return (f"{view} view" if isinstance(view, str) else "view") + f"\n{plane_name(direction)}"
 
 
 def _pixel_scale_bar(ax, image_shape, pixels_per_unit: float, unit: str, factor: float):
@@ -219,7 +221,7 @@ def _pixel_scale_bar(ax, image_shape, pixels_per_unit: float, unit: str, factor:
     ax.plot([x0, x0 + px], [y0, y0], color=palette.LABEL, lw=1.2, solid_capstyle="butt")
     for x in (x0, x0 + px):
         ax.plot([x, x], [y0 - 0.012 * height, y0 + 0.012 * height], color=palette.LABEL, lw=0.8)
-    ax.text(x0 + px / 2, y0 - 0.02 * height, f"{length:g} {unit}", ha="center", va="bottom", fontsize=FONT)
+    ax.text(x0, y0 - 0.02 * height, f"{length:g} {unit}", ha="left", va="bottom", fontsize=FONT)
 
 
 def views_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None, views=None,

@@ -100,3 +100,18 @@ def test_a_projected_force_diagram_says_so_and_labels_true_forces(truss, tmp_pat
     members = diagram.edge_element < project.n_members
     true = np.abs(diagram.graph.forces[diagram.edge_element[members]])
     assert (np.abs(drawn[members] - true) > 0.05 * true.max()).any()
+
+
+@pytest.mark.slow
+def test_the_force_cell_render_has_the_triad_too(truss, tmp_path):
+    from PIL import Image
+
+    from sheets.render.cells3d import node_cells_figure
+
+    _, analysis, _ = truss
+    path = node_cells_figure(analysis, "G", tmp_path / "cells.png")
+    image = np.asarray(Image.open(path).convert("RGB")).astype(int)
+    h, w = image.shape[:2]
+    corner = image[int(0.7 * h):, int(0.76 * w):].reshape(-1, 3)
+    for colour in palette.AXIS_COLOURS.values():
+        assert (np.abs(corner - _rgb(colour)).max(axis=1) <= 8).sum() >= 5, colour

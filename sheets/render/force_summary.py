@@ -70,6 +70,7 @@ def _histogram(ax, forces: np.ndarray, factor: float, unit: str) -> None:
         ax.bar([0.0], [int(zero.sum())], width=(edges[1] - edges[0]) * 0.4, color=palette.ZERO_FORCE,
                label=f"zero force: {int(zero.sum())} members")
     ax.set_xlim(edges[0], edges[-1])
+    ax.set_ylim(0, ax.get_ylim()[1] * 1.4)  # room above the bars for the legend
     ax.set_xlabel(f"member force ({unit}), tension positive", fontsize=FONT)
     ax.set_ylabel("members", fontsize=FONT)
     ax.tick_params(labelsize=FONT - 0.5)

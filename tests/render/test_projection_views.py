@@ -115,3 +115,14 @@ def test_the_force_cell_render_has_the_triad_too(truss, tmp_path):
     corner = image[int(0.7 * h):, int(0.76 * w):].reshape(-1, 3)
     for colour in palette.AXIS_COLOURS.values():
         assert (np.abs(corner - _rgb(colour)).max(axis=1) <= 8).sum() >= 5, colour
+
+
+def test_the_sheet_caption_of_a_3d_frame_says_its_diagrams_are_projections(truss):
+    from sheets.report import figures
+    from sheets.report.templates import load_template
+
+    _, analysis, _ = truss
+    sources = tuple(s for s in figures.SOURCES if s.name == "form and force")
+    found, notes = figures.collect_figures(analysis, load_template("a4-portrait"), workers=1, sources=sources)
+    assert found and notes == ()
+    assert all("projections onto the plane" in f.caption and "true force" in f.caption for f in found)

@@ -30,7 +30,7 @@ from sheets.model.project import Project
 from sheets.model.schema import NAMED_DIRECTIONS
 from sheets.reciprocal.projection import plane_basis, plane_name
 from sheets.render import palette
-from sheets.render.diagram2d import _add_lines
+from sheets.render.diagram2d import _add_lines, _markers
 from sheets.render.triad import draw_triad
 
 PANEL_INCHES = 6.4  # width of a single-view figure
@@ -225,8 +225,52 @@ def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
     return _finish(fig, axes, space)
 
 
-def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
-    """The frame in grey with one load case's nodal loads (black), magnitudes labelled."""
+LOAD_CLASSES = 8  # magnitude classes of the load dots of a large frame
+
+
+def _loads_summary(project: Project, loads: np.ndarray, title: str, labels_up_to: int) -> Figure:
+    """A large frame's loads: a dot at each loaded node, darker for a larger load (a colour bar in force
+    units), with the largest load and the resultant in the legend; arrows at thousands of nodes would be a mass."""
+    from matplotlib.cm import ScalarMappable
+    from matplotlib.colors import BoundaryNorm, LinearSegmentedColormap, to_hex
+
+    fig, axes, views, xys = _layout(project)
+    f_unit, f_factor = project.units.label("force"), project.units.factor("force")
+    size = np.linalg.norm(loads, axis=1)
+    loaded = np.flatnonzero(size > 0)
+    largest = float(size.max(initial=0.0)) or 1.0
+    cmap = LinearSegmentedColormap.from_list("sheets-loads", ["#C8C8C8", palette.LOAD])
+    klass = np.minimum((size[loaded] / largest * LOAD_CLASSES).astype(np.int64), LOAD_CLASSES - 1)
+    for ax, (_, proj), xy in zip(axes, views, xys):
+        _members(ax, project, xy, palette.ZERO_FORCE, 0.3)
+        _supports(ax, project, xy, proj, 8)
+        for c in range(LOAD_CLASSES):  # one path per class, lighter under darker
+            pick = loaded[klass == c]
+            if len(pick):
+                _markers(ax, xy[pick], "o", 3, colour=to_hex(cmap((c + 0.5) / LOAD_CLASSES)), zorder=5)
+    _furniture(axes, views, xys, project)
+    top = int(np.argmax(size))
+    total = ", ".join(f"{v / f_factor:,.4g}" for v in loads.sum(axis=0))
+    handles = [Line2D([], [], marker="o", ls="", ms=3, color=palette.LOAD,
+                      label=f"loaded node ({len(loaded)}; largest {size[top] / f_factor:,.4g} {f_unit} at {project.node_ids[top]})"),
+               Line2D([], [], color=palette.ZERO_FORCE, lw=0.7, label="member")]
+    space = _legend(fig, handles, f"{title}\nresultant of the loads ({total}) {f_unit}; above {labels_up_to} members "
+                                  "loads are dots, not arrows", 2)
+    _finish(fig, axes, space + 0.7)  # room for the colour bar and its label over the legend
+    height = fig.get_size_inches()[1]
+    bar = fig.add_axes((0.2, (space + 0.42) / height, 0.6, 0.08 / height))
+    colours = fig.colorbar(ScalarMappable(BoundaryNorm(np.linspace(0, largest / f_factor, LOAD_CLASSES + 1), cmap.N), cmap),
+                           cax=bar, orientation="horizontal")
+    colours.set_label(f"nodal load |P| ({f_unit})", fontsize=FONT)
+    colours.ax.tick_params(labelsize=FONT - 0.5)
+    return fig
+
+
+def loads_figure(project: Project, loads: np.ndarray, title: str, labels_up_to: int | None = None) -> Figure:
+    """The frame in grey with one load case's nodal loads (black), magnitudes labelled; above
+    ``labels_up_to`` members (the set's label limit) a dot per loaded node coloured by magnitude instead."""
+    if labels_up_to is not None and project.n_members > labels_up_to:
+        return _loads_summary(project, loads, title, labels_up_to)
     fig, axes, views, xys = _layout(project)
     f_unit, f_factor = project.units.label("force"), project.units.factor("force")
     loaded = np.flatnonzero(np.abs(loads).max(axis=1) > 0)

@@ -156,10 +156,13 @@ def _model(analysis: Analysis, template: Template, scratch: Path, state, prepare
 def _loads(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
     p = analysis.project
     title = f"{state_label(state)}: {state.title}"
+    how = ("Each loaded node is a dot, darker for a larger load (colour bar); the legend gives the largest load and "
+           "the resultant, csv/ and results.json every load." if summarised(analysis, template) else
+           "Arrows point in the direction of the load and end at its node.")
     yield SheetFigure(safe_key("loads", state.id), "loads", state.id, f"Loads, {title}",
                       f"Nodal loads of {title} (self-weight included where the case asks for it), "
-                      f"magnitudes in {p.units.label('force')}. Arrows point in the direction of the load and end at its node.",
-                      vector=_vector(form_figure.loads_figure(p, state.loads, title)))
+                      f"magnitudes in {p.units.label('force')}. {how}",
+                      vector=_vector(form_figure.loads_figure(p, state.loads, title, template.labels_up_to)))
 
 
 def _forces(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:

@@ -171,3 +171,24 @@ def test_roundoff_closure_is_one_line_of_text():
     assert "round-off only" in figures.closure_line(3e-14, 1e-6)
     assert "within the tolerance" in figures.closure_line(2e-8, 1e-6)
     assert "BEYOND THE TOLERANCE" in figures.closure_line(1e-3, 1e-6)
+
+
+def test_a_large_frames_loads_are_dots_scaled_to_the_largest_load(grid):
+    from matplotlib.collections import PolyCollection
+
+    from sheets.render.form_figure import loads_figure
+
+    loads = np.asarray(grid.state("snow").loads)
+    size = np.linalg.norm(loads, axis=1)
+    factor = grid.project.units.factor("force")
+    fig = loads_figure(grid.project, loads, "snow", labels_up_to=120)
+    panels = [ax for ax in fig.axes if ax.get_title()]
+    assert not any(isinstance(c, PolyCollection) for ax in panels for c in ax.collections)  # no arrows
+    colour_bar = fig.axes[-1]
+    assert colour_bar.get_xlim() == pytest.approx((0.0, size.max() / factor))
+    legend = " ".join(t.get_text() for t in fig.legends[0].get_texts()) + fig.legends[0].get_title().get_text()
+    assert grid.project.node_ids[int(np.argmax(size))] in legend and f"({int((size > 0).sum())};" in legend
+    assert f"{loads[:, 2].sum() / factor:,.4g}" in legend  # the resultant's vertical component
+    # under the limit the same loads are arrows again
+    small = loads_figure(grid.project, loads, "snow", labels_up_to=grid.project.n_members)
+    assert any(isinstance(c, PolyCollection) for ax in small.axes for c in ax.collections)

@@ -197,9 +197,6 @@ def _paint(gc, rgbFace) -> tuple | None:
     return _style_operators(style), (fill[3] if fill is not None else 1.0, stroke[3] if stroke is not None else 1.0), paint
 
 
-FAST_COLLECTIONS = True  # False: every collection member goes through draw_path (the reference route, for tests)
-
-
 def _bulk_ok(gc, master_transform, paths, all_transforms, offsets, offset_trans) -> bool:
     """A collection the bulk route reproduces exactly: affine, no per-path transforms, no offsets, no hatch."""
     if len(all_transforms) or not master_transform.is_affine or gc.get_hatch_path() is not None:
@@ -292,10 +289,11 @@ def merge_strokes(ops: list) -> list:
 class Recorder(RendererBase):
     """A matplotlib renderer that records paths in points (dpi 72) instead of drawing them."""
 
-    def __init__(self, width: float, height: float):
+    def __init__(self, width: float, height: float, bulk: bool = True):
         super().__init__()
         self.width = width
         self.height = height
+        self.bulk = bulk  # False: every collection member goes through draw_path (the reference route)
         self.ops: list = []
         self._clip_cache: dict = {}
 
@@ -346,7 +344,7 @@ class Recorder(RendererBase):
                              edgecolors, linewidths, linestyles, antialiaseds, urls, offset_position, **kw):
         """Line and polygon collections in bulk (numpy), giving exactly the operators of the one-by-one route
         (``RendererBase.draw_path_collection`` -> ``draw_path``); other collections take that route."""
-        if not FAST_COLLECTIONS or not _bulk_ok(gc, master_transform, paths, all_transforms, offsets, offset_trans):
+        if not self.bulk or not _bulk_ok(gc, master_transform, paths, all_transforms, offsets, offset_trans):
             return super().draw_path_collection(gc, master_transform, paths, all_transforms, offsets, offset_trans,
                                                 facecolors, edgecolors, linewidths, linestyles, antialiaseds, urls,
                                                 offset_position, **kw)
@@ -394,13 +392,14 @@ class Recorder(RendererBase):
         self.ops.append(("image", float(x), float(y), float(w), float(h), buf.getvalue(), self._clip(gc)))
 
 
-def record(figure: Figure) -> VectorFigure:
-    """Draw a matplotlib figure once into a VectorFigure (in points)."""
+def record(figure: Figure, bulk: bool = True) -> VectorFigure:
+    """Draw a matplotlib figure once into a VectorFigure (in points); ``bulk``: collections in bulk
+    (False: one path at a time, the reference the bulk route is tested against)."""
     dpi = figure.dpi
     try:
         figure.set_dpi(72)
         width, height = figure.get_size_inches() * 72
-        recorder = Recorder(float(width), float(height))
+        recorder = Recorder(float(width), float(height), bulk)
         figure.draw(recorder)
     finally:
         figure.set_dpi(dpi)

@@ -75,10 +75,9 @@ def _collections_figure():
     return fig
 
 
-def test_bulk_collections_record_exactly_what_one_path_at_a_time_records(monkeypatch):
+def test_bulk_collections_record_exactly_what_one_path_at_a_time_records():
     fast = record(_collections_figure())
-    monkeypatch.setattr(vector, "FAST_COLLECTIONS", False)
-    slow = record(_collections_figure())
+    slow = record(_collections_figure(), bulk=False)
     assert fast == slow  # the same operators, byte for byte: the same drawing
     assert fast.pdf_bytes("c") == slow.pdf_bytes("c")
 
@@ -95,9 +94,8 @@ def test_bulk_route_is_taken_and_strokes_of_one_style_are_merged(monkeypatch):
     fig = _collections_figure()
     vector.record(fig)
     bulk_calls = len(calls)
-    monkeypatch.setattr(vector, "FAST_COLLECTIONS", False)
     calls.clear()
-    vector.record(_collections_figure())
+    vector.record(_collections_figure(), bulk=False)
     assert bulk_calls < len(calls) - 300  # the 300 lines (and 40 polygons) skipped draw_path
     # merging: consecutive opaque strokes of one style become one path whose subpaths are the originals
     ops = [("path", "0 0 m 1 1 l", "s", (1.0, 1.0), "S", None), ("path", "2 2 m 3 3 l", "s", (1.0, 1.0), "S", None),

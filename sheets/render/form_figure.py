@@ -212,7 +212,7 @@ def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
     fig, axes, views, xys = _layout(project)
     labelled = project.n_members <= labels_up_to
     for ax, (_, proj), xy in zip(axes, views, xys):
-        _members(ax, project, xy, palette.LABEL, 0.8)
+        _members(ax, project, xy, palette.LABEL, 0.8 if labelled else 0.25)  # hairlines: a large grid stays a grid
         if labelled:
             ax.scatter(xy[:, 0], xy[:, 1], s=6, color=palette.NODE, zorder=3)
             _labels(ax, project, xy)

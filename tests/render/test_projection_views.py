@@ -100,6 +100,14 @@ def test_a_projected_force_diagram_says_so_and_labels_true_forces(truss, tmp_pat
     members = diagram.edge_element < project.n_members
     true = np.abs(diagram.graph.forces[diagram.edge_element[members]])
     assert (np.abs(drawn[members] - true) > 0.05 * true.max()).any()
+    # an orthographic projection shortens a segment to |t| |P u| (P the plane's basis, u the member's unit
+    # vector; common practice): the foreshortening the labels make up for
+    coords = np.asarray(project.coords, dtype=float)
+    ends = np.asarray(project.ends)[diagram.edge_element[members]]
+    u = coords[ends[:, 1]] - coords[ends[:, 0]]
+    u /= np.linalg.norm(u, axis=1)[:, None]
+    shortened = true * np.linalg.norm(diagram.embedding.projection.apply(u), axis=1)
+    assert drawn[members] == pytest.approx(shortened, rel=1e-9, abs=1e-9 * true.max())
 
 
 @pytest.mark.slow

@@ -142,7 +142,7 @@ def _code(path: MplPath, transform, clip=None, simplify=None) -> str:
     stop = np.flatnonzero(codes == MplPath.STOP)
     end = int(stop[0]) if len(stop) else len(codes)
     codes = codes[:end]
-    if np.isin(codes, (MplPath.MOVETO, MplPath.LINETO, MplPath.CLOSEPOLY)).all():
+    if ((codes == MplPath.MOVETO) | (codes == MplPath.LINETO) | (codes == MplPath.CLOSEPOLY)).all():
         keep = codes != MplPath.CLOSEPOLY
         template = " ".join(_WORDS[c] for c in codes.tolist())
         return template % tuple(cleaned.vertices[:end][keep].ravel().tolist())

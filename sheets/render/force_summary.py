@@ -64,15 +64,15 @@ def _histogram(ax, forces: np.ndarray, factor: float, unit: str) -> None:
                                (~zero & (forces > 0), palette.TENSION, "tension")):
         if pick.any():
             extreme = shown[pick][np.argmax(np.abs(shown[pick]))]
-            ax.hist(shown[pick], bins=edges, color=colour,
+            ax.hist(shown[pick], bins=edges, color=colour, log=True,
                     label=f"{name}: {int(pick.sum())} members, largest {extreme:,.4g} {unit}")
     if zero.any():
         ax.bar([0.0], [int(zero.sum())], width=(edges[1] - edges[0]) * 0.4, color=palette.ZERO_FORCE,
                label=f"zero force: {int(zero.sum())} members")
     ax.set_xlim(edges[0], edges[-1])
-    ax.set_ylim(0, ax.get_ylim()[1] * 1.4)  # room above the bars for the legend
+    ax.set_ylim(0.7, ax.get_ylim()[1] * 30)  # counts on a log scale (the few extreme members stay visible); room for the legend
     ax.set_xlabel(f"member force ({unit}), tension positive", fontsize=FONT)
-    ax.set_ylabel("members", fontsize=FONT)
+    ax.set_ylabel("members (log scale)", fontsize=FONT)
     ax.tick_params(labelsize=FONT - 0.5)
     ax.legend(fontsize=FONT - 0.5, frameon=False, loc="upper left")
     ax.set_title("Histogram of member forces", fontsize=FONT + 1)

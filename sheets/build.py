@@ -181,7 +181,7 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
         sizing = size_members(analysis)
         outcome = design_outcome_of(analysis, checks)
         note("diagrams")
-        diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress)
+        diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress, template.labels_up_to)
         note("figures")
         figures, notes = collect_figures(analysis, template, progress, diagrams=diagrams)
         note("results")
@@ -254,6 +254,7 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     from sheets.export.publish import check_folder_target
     from sheets.reciprocal.diagram import force_diagram
     from sheets.render.diagram2d import form_force_figure, verification_figure
+    from sheets.report.templates import load_template
 
     note = progress or (lambda _m: None)
     if fmt not in DRAW_FORMATS:
@@ -264,6 +265,7 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     # beside the sheet set, not inside it: the set's folder belongs to `sheets build` alone
     out = Path(out_dir) if out_dir is not None else default_out_dir(source).with_name(f"{source.stem}-diagrams")
     check_folder_target(out, "--out")  # before analysing: a bad folder costs no time
+    labels_up_to = load_template(project.info.template, source.parent, project.source).labels_up_to  # as in the sheets
     analysis = analyse(project, progress)
     known = [s.id for s in analysis.states]
     wanted = list(state_ids or project.drawing.states or known)
@@ -279,13 +281,14 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
         note(f"diagram {sid}")
         diagram = force_diagram(project, analysis.state(sid))
         stem = _file_stem(sid)
-        files.append(form_force_figure(diagram, out / f"{stem}-diagrams.{fmt}", fmt))
+        files.append(form_force_figure(diagram, out / f"{stem}-diagrams.{fmt}", fmt, labels_up_to=labels_up_to))
         files.append(verification_figure(diagram, out / f"{stem}-closure.{fmt}", fmt))
         if project.dim == 3:
             from sheets.render.view3d import views_figure
 
             note(f"3D views {sid}")
-            files.append(views_figure(diagram, out / f"{stem}-views.png", "png", views=project.drawing.views))
+            files.append(views_figure(diagram, out / f"{stem}-views.png", "png", views=project.drawing.views,
+                                      labels_up_to=labels_up_to))
         if dxf:
             files.append(write_diagram_dxf(diagram, out / f"{stem}.dxf"))
         if diagram_json:
@@ -297,7 +300,8 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
             from sheets.reciprocal.stage import state_diagrams
 
             prepared = state_diagrams(analysis, sid, force=diagram)  # the force diagram above, not built again
-            files.extend(polyhedral_outputs(analysis, sid, out, stem, fmt, cells, minkowski, meshes, prepared))
+            files.extend(polyhedral_outputs(analysis, sid, out, stem, fmt, cells, minkowski, meshes, prepared,
+                                            labels_up_to=labels_up_to))
         drawn.append(DrawnState(sid, diagram.n_edges, diagram.faces.count, len(diagram.crossings), diagram.closure_error,
                                 diagram.load_line_error, diagram.passed, diagram.embedding.note))
     if on_state is not None:

@@ -97,3 +97,16 @@ def choose_projection(coords: np.ndarray, direction=(0.0, 0.0, 1.0), name: str =
                 break
     _, tilt, used, used_basis = best
     return Projection(name, frozen_array(requested), frozen_array(used), tilt, frozen_array(used_basis))
+
+
+def plane_name(direction) -> str:
+    """What a drawing along ``direction`` shows, in words: "projection onto the x-y plane" for a view along
+    a global axis, else "projection along (dx, dy, dz)" (the axes named as in plane_basis, right then up)."""
+    d = np.asarray(direction, dtype=float)
+    d = d / np.linalg.norm(d)
+    along = np.flatnonzero(np.abs(d) > 1 - 1e-9)
+    if len(along):
+        basis = plane_basis(d)
+        right, up = (int(np.argmax(np.abs(row))) for row in basis)
+        return f"projection onto the {'xyz'[right]}-{'xyz'[up]} plane"
+    return "projection along (" + ", ".join(f"{v:.2g}" for v in d) + ")"

@@ -65,10 +65,20 @@ def state_diagrams(analysis: Analysis, state_id: str, complex_: CellComplex | No
     return StateDiagrams(state_id, force, cells, polar, view, tuple(problems))
 
 
-def project_diagrams(analysis: Analysis, state_ids: Iterable[str], progress=None) -> dict[str, StateDiagrams]:
-    """The diagrams of the given states, the cell complex (if any) found once for all."""
+def project_diagrams(analysis: Analysis, state_ids: Iterable[str], progress=None,
+                     members_up_to: int | None = None) -> dict[str, StateDiagrams]:
+    """The diagrams of the given states, the cell complex (if any) found once for all.
+
+    ``members_up_to``: the sheet set's label limit. A larger frame's sheets show a force summary
+    instead of its diagrams (sheets.render.force_summary), so none is built (minutes of work and
+    hundreds of thousands of edges for a 20,000-member grid); each state says so in ``problems``.
+    """
     note = progress or (lambda _m: None)
     project = analysis.project
+    if members_up_to is not None and project.n_members > members_up_to:
+        reason = (f"not built for the sheet set: {project.n_members} members is above its label limit of "
+                  f"{members_up_to} (the sheets show a force summary); `sheets draw` builds and draws them")
+        return {sid: StateDiagrams(sid, None, None, None, None, (reason,)) for sid in state_ids}
     complex_ = None
     if project.dim == 3 and (project.polyhedral.cells or project.polyhedral.find_tetrahedra):
         try:

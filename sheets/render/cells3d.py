@@ -21,6 +21,7 @@ import numpy as np
 from sheets.export.atomic import atomic_path
 from sheets.reciprocal.cells import NodeCell, NodeCells, node_cells
 from sheets.render import palette
+from sheets.render.triad import add_triad
 from sheets.render.offscreen import offscreen_plotter
 
 WINDOW = (1600, 1200)
@@ -144,6 +145,7 @@ def node_cells_figure(analysis, state_id: str, path, cells: NodeCells | None = N
         lines.append(f"flat nodes (polygon, drawn in the gallery): {', '.join(flat[:12])}{' ...' if len(flat) > 12 else ''}")
     plotter.add_text("\n".join(lines), position="upper_left", font_size=9, color="black")
     plotter.add_legend(_legend_entries(), bcolor="white", face="rectangle", size=(0.36, 0.18), loc="lower left")
+    add_triad(plotter)
     plotter.view_isometric()
     plotter.enable_parallel_projection()
     plotter.camera.zoom(0.8)  # room for the legend and the text block
@@ -193,6 +195,7 @@ def cell_gallery_figure(analysis, state_id: str, path, nodes=None, cells: NodeCe
             plotter.add_point_labels(np.array(centres), labels, font_size=11, point_size=1, shape_opacity=0.6,
                                      always_visible=True)
         plotter.add_text(f"node {cell.node} ({cell.kind})", font_size=10, color="black")
+        add_triad(plotter)
         plotter.view_isometric()
         plotter.enable_parallel_projection()
         plotter.camera.parallel_scale = 0.75 * size
@@ -330,8 +333,9 @@ def _gallery_2d(analysis, state_id: str, chosen, path: Path) -> Path:
     return _save_figure(fig, path)
 
 
-def polar_diagram_figure(analysis, state_id: str, path, polar) -> Path:
-    """The connected polyhedral force diagram (polarity): one polygon per member, coloured by force.
+def polar_diagram_figure(analysis, state_id: str, path, polar, labels_up_to: int | None = None) -> Path:
+    """The connected polyhedral force diagram (polarity): one polygon per member, coloured by force, labelled
+    up to ``labels_up_to`` members (the sheet set's label limit; None: always).
 
     ``polar`` is a sheets.reciprocal.polarity.ProjectPolarity with a diagram.
     """
@@ -354,7 +358,7 @@ def polar_diagram_figure(analysis, state_id: str, path, polar) -> Path:
     if pts:
         plotter.add_mesh(polygons_mesh(pts, loops, colours), scalars="rgb", rgb=True, opacity=0.75, show_edges=True,
                          edge_color="#333333", line_width=0.6, **SHADING)
-        if project.n_members <= 40:
+        if labels_up_to is None or project.n_members <= labels_up_to:
             plotter.add_point_labels(np.array(centres), labels, font_size=10, point_size=1, shape_opacity=0.5,
                                      always_visible=True)
     use = "from the given heights" if polar.use == "generative" else "fitted to the analysed forces"
@@ -366,6 +370,7 @@ def polar_diagram_figure(analysis, state_id: str, path, polar) -> Path:
     plotter.add_text("\n".join(lines), position="upper_left", font_size=9, color="black")
     plotter.add_legend([["member in tension", palette.TENSION], ["member in compression", palette.COMPRESSION]],
                        bcolor="white", face="rectangle", size=(0.3, 0.1), loc="lower left")
+    add_triad(plotter)
     plotter.view_isometric()
     plotter.enable_parallel_projection()
     plotter.camera.zoom(0.8)  # room for the legend and the text block

@@ -24,8 +24,12 @@ Figure-level functions, each writing one file and returning its path:
 Report-stage adapters ``f(analysis, state_id, path, fmt=None)``:
     ``reciprocal_figure`` and ``closure_figure``.
 
-Labels are drawn up to ``LABELS_UP_TO`` members / spaces; beyond that the
-figure says they are left out (the JSON/DXF exports carry every id).
+Labels are drawn up to ``labels_up_to`` members (the sheet template's
+[tables] labels_up_to, the one limit of the whole set; None: always) and
+SPACES_UP_TO spaces; beyond that the figure says they are left out (the
+JSON/DXF exports carry every id). A 3D frame's diagrams are projections: each
+panel names its plane and carries an axis triad, and as a projected force edge
+is foreshortened its label gives the member's true force.
 """
 
 from __future__ import annotations
@@ -49,11 +53,11 @@ from sheets.export.atomic import atomic_path
 from sheets.reciprocal.anchors import arrow_sides, space_anchors
 from sheets.reciprocal.diagram import ForceDiagram, force_diagram
 from sheets.reciprocal.embedding import IN_PLANE
+from sheets.reciprocal.projection import plane_name
 from sheets.render import palette
+from sheets.render.triad import draw_triad
 
 FONT = 6.5
-LABELS_UP_TO = 120  # members beyond which member labels are left out (2D frames)
-LABELS_UP_TO_3D = 40  # the same for a projected 3D frame, whose members overlap more
 SPACES_UP_TO = 80  # spaces beyond which Bow's-notation letters are left out
 CROSSING_LIST = 10  # crossings listed by name under the figure
 
@@ -179,9 +183,26 @@ def _drawing_points(diagram: ForceDiagram, vectors: np.ndarray) -> np.ndarray:
     return diagram.embedding.projection.apply(vectors) if diagram.dim == 3 else np.asarray(vectors, dtype=float)
 
 
-def _show_labels(diagram: ForceDiagram, labels: bool | None) -> bool:
-    limit = LABELS_UP_TO if diagram.dim == 2 else LABELS_UP_TO_3D
-    return diagram.graph.n_members <= limit if labels is None else labels
+def _show_labels(diagram: ForceDiagram, labels: bool | None, labels_up_to: int | None = None) -> bool:
+    """``labels`` if given, else whether the frame is within ``labels_up_to`` members (None: no limit)."""
+    if labels is not None:
+        return labels
+    return labels_up_to is None or diagram.graph.n_members <= labels_up_to
+
+
+def _true_force(diagram: ForceDiagram, element: int) -> str:
+    """An edge's true force in display units (tension positive): what a projected edge's label must say."""
+    units = diagram.units
+    return f"{units.to_display(float(diagram.graph.forces[element]), 'force'):.3g}"
+
+
+def _projection_title(diagram: ForceDiagram) -> str:
+    """The plane a 3D frame's diagrams are drawn on, in words (empty for a 2D frame)."""
+    projection = diagram.embedding.projection
+    if diagram.dim != 3 or projection.requested is None:
+        return ""
+    tilt = f", tilted {projection.tilt_degrees:g} deg" if projection.tilt_degrees else ""
+    return f"{plane_name(projection.requested)}{tilt}"
 
 
 def _text(ax, x, y, text, **kw):
@@ -436,13 +457,16 @@ def draw_force(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
             if key in shown:
                 continue
             shown.add(key)
-            _text(ax, *((a + b) / 2), _edge_tag(diagram, int(diagram.edge_element[k])))
+            element = int(diagram.edge_element[k])
+            tag = _edge_tag(diagram, element)
+            _text(ax, *((a + b) / 2), f"{tag} {_true_force(diagram, element)}" if diagram.dim == 3 else tag)
         if diagram.faces.count <= SPACES_UP_TO:
             _point_labels(ax, diagram, pts, extent)
     ax.set_aspect("equal", adjustable="datalim")
     ax.set_axis_off()
     units = diagram.units
-    scale_bar(ax, pts, units.label("force"), units.factor("force"))
+    scale_bar(ax, pts, units.label("force"), units.factor("force"),
+              " (projected lengths)" if diagram.dim == 3 else "")
 
 
 def _point_labels(ax, diagram: ForceDiagram, pts: np.ndarray, extent: float) -> None:
@@ -489,18 +513,24 @@ def _plain_id(element_id: str) -> str:
     return element_id.replace("external:", "external force at ")
 
 
-def form_force_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None, labels: bool | None = None) -> Path:
-    """Form and force diagram side by side with matching labels, legend and scales; returns the path written."""
+def form_force_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None, labels: bool | None = None,
+                      labels_up_to: int | None = None) -> Path:
+    """Form and force diagram side by side with matching labels, legend and scales; returns the path written.
+    ``labels``: force them on or off; else they are drawn up to ``labels_up_to`` members (None: always)."""
+    labels = _show_labels(diagram, labels, labels_up_to)
     fig = Figure(figsize=(11.0, 6.2))
     ax_form = fig.add_axes((0.01, 0.2, 0.48, 0.64))
     ax_force = fig.add_axes((0.51, 0.2, 0.48, 0.64))
     draw_form(ax_form, diagram, labels)
     draw_force(ax_force, diagram, labels)
     units = diagram.units
-    ax_form.set_title("Form diagram" + (f" ({diagram.embedding.projection.name} projection)" if diagram.dim == 3 else ""),
-                      fontsize=FONT + 2)
-    ax_force.set_title(f"Force diagram (drawn scale 1 m = {units.to_display(diagram.scale, 'force'):g} {units.label('force')})",
-                       fontsize=FONT + 2)
+    plane = _projection_title(diagram)
+    ax_form.set_title("Form diagram" + (f", {plane}" if plane else ""), fontsize=FONT + 2)
+    ax_force.set_title("Force diagram" + (f", {plane}\nedges foreshortened: labels give the true force "
+                                          f"({units.label('force')})" if plane else ""), fontsize=FONT + 2)
+    if plane:
+        for ax in (ax_form, ax_force):
+            draw_triad(ax, diagram.embedding.projection.basis)
     fig.suptitle(_subtitle(diagram), fontsize=FONT + 3, y=0.985)
     labelled = _show_labels(diagram, labels)
     fig.text(0.5, 0.94, _wrap(diagram.embedding.note[:1].upper() + diagram.embedding.note[1:]), ha="center", va="top",
@@ -515,8 +545,7 @@ def form_force_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None =
               f"Spaces A, B, ... (Bow's notation) in the form are points a, b, ... in the force diagram; "
               f"a member is named by the two spaces it parts.")
     if not labelled:
-        footer += (f" Labels left out above {LABELS_UP_TO if diagram.dim == 2 else LABELS_UP_TO_3D} members"
-                   f"{'' if diagram.dim == 2 else ' (3D)'}.")
+        footer += f" Labels left out above {labels_up_to} members." if labels_up_to is not None else " Labels left out."
     elif diagram.faces.count > SPACES_UP_TO:
         footer += f" Space letters left out above {SPACES_UP_TO} spaces."
     crossing = _crossing_text(diagram)
@@ -534,6 +563,8 @@ def verification_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None
     _closure_bars(ax_nodes, diagram)
     _edge_bars(ax_edges, diagram)
     _load_line(ax_line, diagram)
+    if diagram.dim == 3:
+        draw_triad(ax_line, diagram.embedding.projection.basis)
     fig.suptitle(f"Closure of the force diagram - {_subtitle(diagram)}", fontsize=FONT + 3, y=0.985)
     handles = [Line2D([], [], color=palette.NODE, ls="--", lw=0.8, label=f"tolerance {diagram.tolerance:g} (relative)"),
                Line2D([], [], color=palette.TENSION, lw=4, label="within tolerance"),
@@ -673,10 +704,12 @@ def _load_line(ax, diagram: ForceDiagram) -> None:
 # -- report-stage adapters --------------------------------------------------------
 
 
-def reciprocal_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None, diagram=None) -> Path:
+def reciprocal_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None, diagram=None,
+                      labels_up_to: int | None = None) -> Path:
     """``form_force_figure`` for one state of an analysis (signature of the report's figure sources);
     ``diagram``: the state's force diagram where already built."""
-    return form_force_figure(diagram or force_diagram(analysis.project, analysis.state(state_id)), path, fmt)
+    return form_force_figure(diagram or force_diagram(analysis.project, analysis.state(state_id)), path, fmt,
+                             labels_up_to=labels_up_to)
 
 
 def closure_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None, diagram=None) -> Path:

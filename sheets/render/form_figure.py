@@ -10,9 +10,11 @@ Three kinds, each a matplotlib Figure built without pyplot (no global state):
 - ``displaced_figure``: the displaced shape of one state over the frame as
   given, displacements exaggerated by a stated round factor.
 
-A 3D frame is drawn as orthographic views (the project's [drawing] views:
-plan, front, side, axonometric), one panel each. Every figure has a legend and
-a scale: a length scale bar, and for forces the width and arrow scales.
+A 3D frame is drawn as orthographic projections (the project's [drawing]
+views: plan, front, side, axonometric), one panel each, titled with the plane
+it projects onto and carrying an axis triad; all panels share one scale.
+Every figure has a legend and a scale: one length scale bar (true in every
+view), and for forces the width and arrow scales.
 Labels are drawn for frames up to ``labels_up_to`` members; larger frames are
 drawn without them (the tables and CSV files carry every id).
 """
@@ -22,14 +24,16 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from matplotlib.collections import LineCollection, PolyCollection
+from matplotlib.collections import PolyCollection
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
 from sheets.model.project import Project
 from sheets.model.schema import NAMED_DIRECTIONS
-from sheets.reciprocal.projection import plane_basis
+from sheets.reciprocal.projection import plane_basis, plane_name
 from sheets.render import palette
+from sheets.render.diagram2d import _add_lines, _markers
+from sheets.render.triad import draw_triad
 
 PANEL_INCHES = 6.4  # width of a single-view figure
 FONT = 6.5
@@ -55,7 +59,7 @@ def _layout(project: Project):
         ax.set_aspect("equal", adjustable="datalim")
         ax.set_axis_off()
         if name:
-            ax.set_title(f"{name} view", fontsize=FONT + 1)
+            ax.set_title(f"{name} view: {plane_name(NAMED_DIRECTIONS[name])}", fontsize=FONT + 1)
         axes.append(ax)
     return fig, axes, views, xy
 
@@ -68,18 +72,22 @@ def _legend(fig: Figure, handles, title: str, ncol: int) -> float:
 
 
 def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
-    """Size the figure, and each row of panels, to the drawing's aspect: no empty bands on the page."""
-    aspects = []
+    """Size the figure, and each row of panels, to the drawing: every view at one common scale (so the one
+    scale bar holds for all of them), rows as tall as their tallest view, no empty bands on the page."""
+    spans = []
     for ax in axes:
         ax.margins(0.03)
         ax.autoscale_view()
         (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
-        aspects.append(min(max((y1 - y0) / max(x1 - x0, 1e-12), 0.12), 1.4))
+        spans.append(((x0 + x1) / 2, (y0 + y1) / 2, max(x1 - x0, 1e-12), max(y1 - y0, 1e-12)))
     cols = 1 if len(axes) == 1 else 2
-    rows = [aspects[r:r + cols] for r in range(0, len(axes), cols)]
-    title = 0.22 if len(axes) > 1 else 0.0
     panel = PANEL_INCHES / cols
-    heights = [panel * max(row) for row in rows]
+    inner = panel - 0.04
+    # inches per drawing unit, common to every view: the widest view fills its panel, none taller than 1.4 panels
+    per_unit = min(min(inner / w, 1.4 * inner / h) for _, _, w, h in spans)
+    rows = [spans[r:r + cols] for r in range(0, len(axes), cols)]
+    title = 0.22 if len(axes) > 1 else 0.0
+    heights = [max(max(h * per_unit for _, _, _, h in row), 0.12 * inner) for row in rows]
     height = sum(heights) + title * len(rows) + legend_inches
     fig.set_size_inches(PANEL_INCHES, height)
     top = height
@@ -88,14 +96,26 @@ def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
         for c in range(cols):
             k = r * cols + c
             if k < len(axes):
+                cx, cy, _, _ = spans[k]
+                axes[k].set_xlim(cx - inner / per_unit / 2, cx + inner / per_unit / 2)
+                axes[k].set_ylim(cy - row_height / per_unit / 2, cy + row_height / per_unit / 2)
                 axes[k].set_position(((c * panel + 0.02) / PANEL_INCHES, (top - row_height) / height,
-                                      (panel - 0.04) / PANEL_INCHES, row_height / height))
+                                      inner / PANEL_INCHES, row_height / height))
         top -= row_height
     return fig
 
 
 def _extent(xy: np.ndarray) -> float:
     return float(np.ptp(xy, axis=0).max()) if len(xy) > 1 else 1.0
+
+
+def _furniture(axes, views, xys, project: Project) -> None:
+    """One length scale bar (all views share its scale, see ``_finish``) and an axis triad in every 3D view."""
+    note = " (every view)" if len(axes) > 1 else ""
+    _scale_bar(axes[0], xys[0], project.units.label("length") + note, project.units.factor("length"))
+    if project.dim == 3:
+        for ax, (_, proj) in zip(axes, views):
+            draw_triad(ax, proj.T)
 
 
 def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
@@ -116,8 +136,12 @@ def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
 
 
 def _members(ax, project: Project, xy: np.ndarray, colours, widths, zorder=2):
-    segs = xy[project.ends]
-    ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, capstyle="round", zorder=zorder))
+    """Members as lines (one colour or one per member); large frames gathered into a path per colour and
+    width (diagram2d._add_lines), which matplotlib and the vector recorder draw in one go."""
+    m = project.n_members
+    colours = [colours] * m if isinstance(colours, str) else list(colours)
+    widths = [float(widths)] * m if np.isscalar(widths) else list(widths)
+    _add_lines(ax, xy[project.ends], colours, widths, zorder=zorder)
 
 
 def _labels(ax, project: Project, xy: np.ndarray, members: bool = True, nodes: bool = True):
@@ -190,12 +214,12 @@ def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
     fig, axes, views, xys = _layout(project)
     labelled = project.n_members <= labels_up_to
     for ax, (_, proj), xy in zip(axes, views, xys):
-        _members(ax, project, xy, palette.LABEL, 0.8)
+        _members(ax, project, xy, palette.LABEL, 0.8 if labelled else 0.25)  # hairlines: a large grid stays a grid
         if labelled:
             ax.scatter(xy[:, 0], xy[:, 1], s=6, color=palette.NODE, zorder=3)
             _labels(ax, project, xy)
         _supports(ax, project, xy, proj, 40 if labelled else 12)
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    _furniture(axes, views, xys, project)
     handles = [Line2D([], [], color=palette.LABEL, lw=0.8, label="member"),
                Line2D([], [], marker="^", ls="", mfc="white", mec=palette.NODE, label="support (fixed axes named)")]
     note = "" if labelled else f" (labels omitted above {labels_up_to} members)"
@@ -203,8 +227,52 @@ def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
     return _finish(fig, axes, space)
 
 
-def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
-    """The frame in grey with one load case's nodal loads (black), magnitudes labelled."""
+LOAD_CLASSES = 8  # magnitude classes of the load dots of a large frame
+
+
+def _loads_summary(project: Project, loads: np.ndarray, title: str, labels_up_to: int) -> Figure:
+    """A large frame's loads: a dot at each loaded node, darker for a larger load (a colour bar in force
+    units), with the largest load and the resultant in the legend; arrows at thousands of nodes would be a mass."""
+    from matplotlib.cm import ScalarMappable
+    from matplotlib.colors import BoundaryNorm, LinearSegmentedColormap, to_hex
+
+    fig, axes, views, xys = _layout(project)
+    f_unit, f_factor = project.units.label("force"), project.units.factor("force")
+    size = np.linalg.norm(loads, axis=1)
+    loaded = np.flatnonzero(size > 0)
+    largest = float(size.max(initial=0.0)) or 1.0
+    cmap = LinearSegmentedColormap.from_list("sheets-loads", ["#C8C8C8", palette.LOAD])
+    klass = np.minimum((size[loaded] / largest * LOAD_CLASSES).astype(np.int64), LOAD_CLASSES - 1)
+    for ax, (_, proj), xy in zip(axes, views, xys):
+        _members(ax, project, xy, palette.ZERO_FORCE, 0.3)
+        _supports(ax, project, xy, proj, 8)
+        for c in range(LOAD_CLASSES):  # one path per class, lighter under darker
+            pick = loaded[klass == c]
+            if len(pick):
+                _markers(ax, xy[pick], "o", 3, colour=to_hex(cmap((c + 0.5) / LOAD_CLASSES)), zorder=5)
+    _furniture(axes, views, xys, project)
+    top = int(np.argmax(size))
+    total = ", ".join(f"{v / f_factor:,.4g}" for v in loads.sum(axis=0))
+    handles = [Line2D([], [], marker="o", ls="", ms=3, color=palette.LOAD,
+                      label=f"loaded node ({len(loaded)}; largest {size[top] / f_factor:,.4g} {f_unit} at {project.node_ids[top]})"),
+               Line2D([], [], color=palette.ZERO_FORCE, lw=0.7, label="member")]
+    space = _legend(fig, handles, f"{title}\nresultant of the loads ({total}) {f_unit}; above {labels_up_to} members "
+                                  "loads are dots, not arrows", 2)
+    _finish(fig, axes, space + 0.7)  # room for the colour bar and its label over the legend
+    height = fig.get_size_inches()[1]
+    bar = fig.add_axes((0.2, (space + 0.42) / height, 0.6, 0.08 / height))
+    colours = fig.colorbar(ScalarMappable(BoundaryNorm(np.linspace(0, largest / f_factor, LOAD_CLASSES + 1), cmap.N), cmap),
+                           cax=bar, orientation="horizontal")
+    colours.set_label(f"nodal load |P| ({f_unit})", fontsize=FONT)
+    colours.ax.tick_params(labelsize=FONT - 0.5)
+    return fig
+
+
+def loads_figure(project: Project, loads: np.ndarray, title: str, labels_up_to: int | None = None) -> Figure:
+    """The frame in grey with one load case's nodal loads (black), magnitudes labelled; above
+    ``labels_up_to`` members (the set's label limit) a dot per loaded node coloured by magnitude instead."""
+    if labels_up_to is not None and project.n_members > labels_up_to:
+        return _loads_summary(project, loads, title, labels_up_to)
     fig, axes, views, xys = _layout(project)
     f_unit, f_factor = project.units.label("force"), project.units.factor("force")
     loaded = np.flatnonzero(np.abs(loads).max(axis=1) > 0)
@@ -222,7 +290,7 @@ def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
                 tail = xy[n] - (v @ proj) * scale
                 ax.annotate(f"{np.linalg.norm(v) / f_factor:.3g}", tail, fontsize=FONT - 0.5, ha="center", va="bottom",
                             xytext=(0, 2), textcoords="offset points")
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    _furniture(axes, views, xys, project)
     handles = [Line2D([], [], color=palette.LOAD, lw=2, label=f"load (arrow {0.12:.0%} of frame size = {largest / f_factor:.3g} {f_unit})"),
                Line2D([], [], color=palette.ZERO_FORCE, lw=0.7, label="member")]
     if project.dim == 3:
@@ -250,7 +318,7 @@ def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, react
         _arrows(ax, xy[supported], reactions[supported] @ proj, palette.REACTION, scale, head, tail_at_node=True)
         if project.n_members <= labels_up_to:
             _labels(ax, project, xy, nodes=False)
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    _furniture(axes, views, xys, project)
     thick = palette.line_width(largest, largest)
     half = palette.line_width(largest / 2, largest)
     handles = [

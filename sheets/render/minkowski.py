@@ -16,6 +16,7 @@ import numpy as np
 from sheets.reciprocal.cells import node_cells
 from sheets.reciprocal.minkowski_sum import MinkowskiView, minkowski_view
 from sheets.render import palette
+from sheets.render.triad import add_triad
 from sheets.render.cells3d import SHADING, _plotter, _save, _save_figure, polygons_mesh
 
 
@@ -38,8 +39,10 @@ def totals_text(view: MinkowskiView, units) -> list[str]:
     ]
 
 
-def minkowski_figure(analysis, state_id: str, path, view: MinkowskiView | None = None, polar=None) -> Path:
-    """The Minkowski-sum view of one state (2D: rectangles; 3D: prisms).
+def minkowski_figure(analysis, state_id: str, path, view: MinkowskiView | None = None, polar=None,
+                     labels_up_to: int | None = None) -> Path:
+    """The Minkowski-sum view of one state (2D: rectangles; 3D: prisms); 2D member labels up to
+    ``labels_up_to`` members (the sheet set's label limit; None: always).
 
     2D frames use the state's connected force diagram (sheets.reciprocal.diagram)
     where it can be built, the separate node polygons otherwise; 3D frames use
@@ -49,7 +52,7 @@ def minkowski_figure(analysis, state_id: str, path, view: MinkowskiView | None =
     if view is None:
         view = default_view(analysis, state_id, polar)
     if view.dim == 2:
-        return _figure_2d(analysis, view, path)
+        return _figure_2d(analysis, view, path, labels_up_to)
     return _figure_3d(analysis, view, path)
 
 
@@ -68,7 +71,7 @@ def default_view(analysis, state_id: str, polar=None) -> MinkowskiView:
     return minkowski_view(analysis, cells, polar=polar, diagram=diagram)
 
 
-def _figure_2d(analysis, view: MinkowskiView, path: Path) -> Path:
+def _figure_2d(analysis, view: MinkowskiView, path: Path, labels_up_to: int | None = None) -> Path:
     from matplotlib.figure import Figure
     from matplotlib.patches import Patch, Polygon
 
@@ -93,7 +96,7 @@ def _figure_2d(analysis, view: MinkowskiView, path: Path) -> Path:
     shrunk = (1 - view.mix) * np.asarray(project.coords)
     for i, j in project.ends:
         ax.plot(*shrunk[[i, j]].T, color=palette.LABEL, lw=0.3, zorder=4)
-    if project.n_members <= 80:
+    if labels_up_to is None or project.n_members <= labels_up_to:
         for piece in view.members:
             if piece.loops:
                 c = piece.vertices[list(piece.loops[0])].mean(axis=0)
@@ -140,6 +143,7 @@ def _figure_3d(analysis, view: MinkowskiView, path: Path) -> Path:
     plotter.add_text("\n".join(lines), position="upper_left", font_size=8, color="black")
     plotter.add_legend([["member in tension", palette.TENSION], ["member in compression", palette.COMPRESSION],
                         ["node force cell", "#BBBBBB"]], bcolor="white", face="rectangle", size=(0.3, 0.14), loc="lower left")
+    add_triad(plotter)
     plotter.view_isometric()
     plotter.enable_parallel_projection()
     plotter.camera.zoom(0.8)  # room for the legend and the text block
@@ -147,7 +151,8 @@ def _figure_3d(analysis, view: MinkowskiView, path: Path) -> Path:
 
 
 def polyhedral_outputs(analysis, state_id: str, out_dir, stem: str, fmt: str = "png", cells: bool = True,
-                       minkowski: bool = True, meshes: bool = False, prepared=None) -> list[Path]:
+                       minkowski: bool = True, meshes: bool = False, prepared=None,
+                       labels_up_to: int | None = None) -> list[Path]:
     """Every figure (and on request mesh file) of issue 4 for one state; returns the paths written.
 
     ``<stem>-cells`` and ``<stem>-cells-gallery`` (node cells), ``<stem>-polar`` (3D, where the
@@ -174,10 +179,11 @@ def polyhedral_outputs(analysis, state_id: str, out_dir, stem: str, fmt: str = "
         files.append(node_cells_figure(analysis, state_id, out / f"{stem}-cells.{suffix}", node_set))
         files.append(cell_gallery_figure(analysis, state_id, out / f"{stem}-cells-gallery.{suffix}", cells=node_set))
         if usable is not None:
-            files.append(polar_diagram_figure(analysis, state_id, out / f"{stem}-polar.png", polar))
+            files.append(polar_diagram_figure(analysis, state_id, out / f"{stem}-polar.png", polar, labels_up_to))
     view = prepared.minkowski
     if minkowski:
-        files.append(minkowski_figure(analysis, state_id, out / f"{stem}-minkowski.{suffix}", view))
+        files.append(minkowski_figure(analysis, state_id, out / f"{stem}-minkowski.{suffix}", view,
+                                      labels_up_to=labels_up_to))
     if meshes and project.dim == 3:
         mesh = cells_mesh(node_set)
         files += [write_mesh(mesh, out / f"{stem}-cells.obj"), write_mesh(mesh, out / f"{stem}-cells.vtp")]

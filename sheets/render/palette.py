@@ -32,3 +32,6 @@ def line_width(force: float, largest: float, thinnest: float = 0.6, thickest: fl
     if largest <= 0:
         return thinnest
     return thinnest + (thickest - thinnest) * abs(force) / largest
+
+# Axis triads (sheets.render.triad): three Okabe-Ito colours no force role uses
+AXIS_COLOURS = {"x": "#0072B2", "y": "#E69F00", "z": "#CC79A7"}  # blue, orange, reddish purple

@@ -32,12 +32,11 @@ from matplotlib.figure import Figure
 
 from sheets.model.schema import NAMED_DIRECTIONS
 from sheets.reciprocal.diagram import ForceDiagram, force_diagram
-from sheets.reciprocal.projection import plane_basis
+from sheets.reciprocal.projection import plane_basis, plane_name
 from sheets.render import palette
 from sheets.render.offscreen import offscreen_plotter
-from sheets.render.diagram2d import FONT, ROLE_STYLE, _edge_tag, _round_length, role_handles, save_figure
-
-LABELS_UP_TO = 60  # 3D labels get crowded sooner than 2D ones
+from sheets.render.diagram2d import FONT, ROLE_STYLE, _edge_tag, _round_length, _true_force, role_handles, save_figure
+from sheets.render.triad import add_triad
 DEFAULT_VIEWS = ("plan", "front", "side", "axonometric")
 
 
@@ -45,10 +44,13 @@ def _rgb(colour: str) -> tuple[float, float, float]:
     return tuple(int(colour[i: i + 2], 16) / 255 for i in (1, 3, 5))
 
 
-def _scene(diagram: ForceDiagram, which: str):
-    """(segments (k, 2, 3), role per segment, |force| per segment, labels [(point, text)]) of one diagram."""
+def _scene(diagram: ForceDiagram, which: str, labels_up_to: int | None = None):
+    """(segments (k, 2, 3), role per segment, |force| per segment, labels [(point, text)]) of one diagram;
+    labels up to ``labels_up_to`` members (None: always). A force edge seen in a view is foreshortened,
+    so its label carries the member's true force."""
     graph = diagram.graph
     m = graph.n_members
+    labelled = labels_up_to is None or m <= labels_up_to
     if which == "form":
         coords = graph.coords
         segs = coords[np.stack([graph.tails[:m], graph.heads[:m]], axis=1)]
@@ -59,7 +61,7 @@ def _scene(diagram: ForceDiagram, which: str):
         segs = np.concatenate([segs, arrows]) if len(arrows) else segs
         roles += arrow_roles
         sizes = np.r_[sizes, arrow_sizes]
-        labels = [(segs[e].mean(axis=0), graph.element_ids[e]) for e in range(m)] if m <= LABELS_UP_TO else []
+        labels = [(segs[e].mean(axis=0), graph.element_ids[e]) for e in range(m)] if labelled else []
         return segs, roles, sizes, labels
     if which == "force":
         pts = diagram.points
@@ -67,14 +69,14 @@ def _scene(diagram: ForceDiagram, which: str):
         roles = list(diagram.role)
         sizes = np.abs(diagram.edge_forces)
         labels = []
-        if m <= LABELS_UP_TO:
+        if labelled:
             seen = set()
             for k in range(diagram.n_edges):
                 e = int(diagram.edge_element[k])
                 key = (e, tuple(np.round(segs[k].mean(axis=0), 6)))
                 if key not in seen and np.linalg.norm(segs[k, 1] - segs[k, 0]) > 0:
                     seen.add(key)
-                    labels.append((segs[k].mean(axis=0), _edge_tag(diagram, e)))
+                    labels.append((segs[k].mean(axis=0), f"{_edge_tag(diagram, e)} {_true_force(diagram, e)}"))
             labels += [(pts[f], label.lower()) for f, label in enumerate(diagram.space_labels)]
         return segs, roles, sizes, labels
     raise ValueError(f"which must be 'form' or 'force', got {which!r}")
@@ -141,10 +143,12 @@ def _tubes(segs: np.ndarray, roles: list[str], sizes: np.ndarray, extent: float,
     return meshes
 
 
-def render_views(diagram: ForceDiagram, which: str, views, size=(640, 520), scene=None) -> list[tuple[np.ndarray, float]]:
+def render_views(diagram: ForceDiagram, which: str, views, size=(640, 520), scene=None,
+                 triad: bool = True) -> list[tuple[np.ndarray, float]]:
     """Orthographic renders of one diagram in each of ``views``, the scene built once and only the camera
-    moved: [(image (h, w, 3) uint8, pixels per drawing unit: m for form, N for force)].
-    ``scene``: ``_scene(diagram, which)`` where the caller has it already."""
+    moved, every view at one scale (that of the view needing the most room): [(image (h, w, 3) uint8, pixels
+    per drawing unit: m for form, N for force)], the same for every view. ``scene``: ``_scene(diagram, which)``
+    where the caller has it already. ``triad``: an axis triad (sheets.render.triad) in the lower-right corner."""
     segs, roles, sizes, labels = scene if scene is not None else _scene(diagram, which)
     pts = segs.reshape(-1, 3)
     centre = (pts.min(axis=0) + pts.max(axis=0)) / 2 if len(pts) else np.zeros(3)
@@ -163,16 +167,21 @@ def render_views(diagram: ForceDiagram, which: str, views, size=(640, 520), scen
         if labels:
             plotter.add_point_labels(np.array([p for p, _ in labels]), [t for _, t in labels], font_size=15,
                                      text_color=palette.LABEL, shape=None, show_points=False, always_visible=True)
+        if triad:
+            add_triad(plotter)
         plotter.enable_parallel_projection()
         rel = pts - centre
         aspect = size[0] / size[1]
+        cameras = []
         for view in views:
             direction = NAMED_DIRECTIONS[view] if isinstance(view, str) else tuple(view)
             basis = plane_basis(direction, 2)
             d = np.asarray(direction, float) / np.linalg.norm(direction)
             half_w = float(np.abs(rel @ basis[0]).max(initial=0.0))
             half_h = float(np.abs(rel @ basis[1]).max(initial=0.0))
-            scale = max(half_h, half_w / aspect, 1e-9 * extent) * 1.22
+            cameras.append((d, basis, max(half_h, half_w / aspect, 1e-9 * extent) * 1.22))
+        scale = max(c[2] for c in cameras) if cameras else 1.0  # one scale for every view
+        for d, basis, _ in cameras:
             camera = plotter.camera
             camera.focal_point = tuple(centre)
             camera.position = tuple(centre + d * 3 * extent)
@@ -186,9 +195,9 @@ def render_views(diagram: ForceDiagram, which: str, views, size=(640, 520), scen
     return rendered
 
 
-def render_view(diagram: ForceDiagram, which: str, view, size=(640, 520)) -> tuple[np.ndarray, float]:
+def render_view(diagram: ForceDiagram, which: str, view, size=(640, 520), triad: bool = True) -> tuple[np.ndarray, float]:
     """One orthographic render: (image (h, w, 3) uint8, pixels per drawing unit: m for form, N for force)."""
-    return render_views(diagram, which, [view], size)[0]
+    return render_views(diagram, which, [view], size, triad=triad)[0]
 
 
 def view_png(diagram: ForceDiagram, which: str, view, path: str | Path) -> Path:
@@ -197,7 +206,9 @@ def view_png(diagram: ForceDiagram, which: str, view, path: str | Path) -> Path:
 
 
 def _view_label(view) -> str:
-    return f"{view} view" if isinstance(view, str) else "view along (" + ", ".join(f"{v:.2g}" for v in view) + ")"
+    """The view's name and, on a second line, the plane it projects onto."""
+    direction = NAMED_DIRECTIONS[view] if isinstance(view, str) else view
+    return (f"{view} view" if isinstance(view, str) else "view") + f"\n{plane_name(direction)}"
 
 
 def _pixel_scale_bar(ax, image_shape, pixels_per_unit: float, unit: str, factor: float):
@@ -210,13 +221,15 @@ def _pixel_scale_bar(ax, image_shape, pixels_per_unit: float, unit: str, factor:
     ax.plot([x0, x0 + px], [y0, y0], color=palette.LABEL, lw=1.2, solid_capstyle="butt")
     for x in (x0, x0 + px):
         ax.plot([x, x], [y0 - 0.012 * height, y0 + 0.012 * height], color=palette.LABEL, lw=0.8)
-    ax.text(x0 + px / 2, y0 - 0.02 * height, f"{length:g} {unit}", ha="center", va="bottom", fontsize=FONT)
+    ax.text(x0, y0 - 0.02 * height, f"{length:g} {unit}", ha="left", va="bottom", fontsize=FONT)
 
 
 def views_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None, views=None,
-                 rows=("form", "force"), size=(560, 460)) -> Path:
+                 rows=("form", "force"), size=(560, 460), labels_up_to: int | None = None) -> Path:
     """Form and force diagram in the given views (default: the four standard views and the embedding's
-    projection), one row each, with legend and scale bars; returns the path written (PNG by default)."""
+    projection), one row each, every view of a row at one scale with one scale bar, an axis triad in every
+    view, and a legend; labels up to ``labels_up_to`` members (None: always). Returns the path written
+    (PNG by default)."""
     views = list(views or DEFAULT_VIEWS)
     projection = diagram.embedding.projection
     if projection.direction is not None and len(views) > 1:
@@ -230,7 +243,7 @@ def views_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None
     height = (top - bottom) / len(rows)
     lines = []  # rows drawn as lines (more than TUBES_UP_TO segments)
     for i, which in enumerate(rows):
-        scene = _scene(diagram, which)
+        scene = _scene(diagram, which, labels_up_to)
         if len(scene[0]) > TUBES_UP_TO:
             lines.append(which)
         rendered = render_views(diagram, which, views, size, scene)
@@ -242,8 +255,10 @@ def views_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None
             title = ("form" if which == "form" else "force") + ", " + (
                 f"embedding projection ({projection.name}{', tilted' if projection.tilt_degrees else ''})" if used else _view_label(view))
             ax.set_title(title, fontsize=FONT + 0.5)
-            kind = "length" if which == "form" else "force"
-            _pixel_scale_bar(ax, image.shape, per_unit, units.label(kind), units.factor(kind))
+            if j == 0:  # the row's views share one scale: one bar says it
+                kind = "length" if which == "form" else "force"
+                note = " (every view in this row)" if cols > 1 else ""
+                _pixel_scale_bar(ax, image.shape, per_unit, units.label(kind) + note, units.factor(kind))
     fig.suptitle(f"{diagram.title} - {diagram.state_kind} {diagram.state_id}: {diagram.state_title} (3D views)",
                  fontsize=FONT + 2.5, y=0.985)
     handles = role_handles(diagram)
@@ -251,13 +266,14 @@ def views_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None
     drawn = "tube radius" if not lines else (f"line width (diagrams of more than {TUBES_UP_TO} edges are drawn as "
                                              "lines)" if len(lines) == len(rows) else f"tube radius ({', '.join(lines)}: line width)")
     fig.legend(handles=handles, loc="lower center", ncol=min(len(handles), 4), fontsize=FONT, frameon=False,
-               bbox_to_anchor=(0.5, 0.0), title=f"{drawn} proportional to |force|; orthographic views, "
-               "scale bars true for lengths parallel to each view", title_fontsize=FONT)
+               bbox_to_anchor=(0.5, 0.0), title=f"{drawn} proportional to |force|; orthographic views, one scale per "
+               "row, true for lengths parallel to the view; force labels give true forces", title_fontsize=FONT)
     return save_figure(fig, path, fmt or "png", dpi=150)
 
 
-def force_views_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None, diagram=None) -> Path:
+def force_views_figure(analysis, state_id: str, path: str | Path, fmt: str | None = None, diagram=None,
+                       labels_up_to: int | None = None) -> Path:
     """``views_figure`` for one state of an analysis, in the project's [drawing] views."""
     project = analysis.project
     diagram = diagram or force_diagram(project, analysis.state(state_id))
-    return views_figure(diagram, path, fmt, views=project.drawing.views or DEFAULT_VIEWS)
+    return views_figure(diagram, path, fmt, views=project.drawing.views or DEFAULT_VIEWS, labels_up_to=labels_up_to)

@@ -10,7 +10,9 @@ Sources, in the order the sheets use them (part of the sheet: module):
     loads          each load case's nodal loads              (render.form_figure)
     force_diagram  form beside reciprocal force diagram      (render.diagram2d.reciprocal_figure);
                    where that stage is absent or fails for a state, the form
-                   coloured by force alone, part form_forces  (render.form_figure)
+                   coloured by force alone, part form_forces  (render.form_figure);
+                   frames above the label limit: the force summary
+                   (colours, histogram, extremes) instead   (render.force_summary)
     force_diagram  3D views of form and force diagram        (render.view3d.force_views_figure)
     force_diagram  closure of the force diagram              (render.diagram2d.closure_figure)
     cells          each node's force cell                    (render.cells3d.node_cells_figure)
@@ -19,6 +21,12 @@ Sources, in the order the sheets use them (part of the sheet: module):
     minkowski      the Minkowski-sum view                    (render.minkowski.minkowski_figure)
     serviceability each serviceability combination's displaced
                    shape                                     (render.form_figure.displaced_figure)
+
+One label limit serves the whole set: the template's [tables] labels_up_to,
+passed to every figure that labels. Above it a frame is summarised: its
+states get the force summary, and the 3D views, closure chart, force cells,
+polyhedral diagram and Minkowski view (unreadable masses at that size) are not
+drawn; the summary says so, and how closely equilibrium holds, in one line.
 
 Render modules of other stages draw to a path ``f(analysis, state_id, path, **inputs)``, the
 inputs being the state's diagrams as the build made them once (sheets.reciprocal.stage).
@@ -108,6 +116,21 @@ def drawn_states(analysis: Analysis) -> list:
     return [s for s in analysis.states if not wanted or s.id in wanted]
 
 
+def summarised(analysis: Analysis, template: Template) -> bool:
+    """Whether the frame is above the set's label limit, so that its states get the force summary."""
+    return analysis.project.n_members > template.labels_up_to
+
+
+ROUNDOFF = 1e-9  # relative errors below this are floating-point round-off: one line of text, not a chart
+
+
+def closure_line(residual: float, tolerance: float) -> str:
+    """How closely a state's nodes are in equilibrium (each node's force polygon closes), in one line."""
+    verdict = "round-off only" if residual < ROUNDOFF else "within the tolerance" if residual <= tolerance else "BEYOND THE TOLERANCE"
+    return (f"Every node's force polygon closes (nodal equilibrium) to {residual:.1e} of the largest force, "
+            f"{verdict} (tolerance {tolerance:g}).")
+
+
 def state_label(state) -> str:
     kind = {"case": "Load case", "prestress": "Prestress", "combination": "Combination"}.get(state.kind, state.kind)
     return f"{kind} {state.id}"
@@ -126,7 +149,8 @@ class Source:
 
 def _model(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
     p = analysis.project
-    views = "" if p.dim == 2 else f" Orthographic views: {', '.join(p.drawing.views)}."
+    views = "" if p.dim == 2 else (f" Orthographic views: {', '.join(p.drawing.views)}, each a projection onto the plane "
+                                   "named above it with an axis triad, all at the one scale of the scale bar.")
     labels = ("Node and member labels are the project's ids." if p.n_members <= template.labels_up_to
               else f"Labels are omitted for frames above {template.labels_up_to} members; the tables and CSV files carry every id.")
     yield SheetFigure("form-model", "model", None, "Form diagram: geometry, labels and supports",
@@ -137,10 +161,13 @@ def _model(analysis: Analysis, template: Template, scratch: Path, state, prepare
 def _loads(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
     p = analysis.project
     title = f"{state_label(state)}: {state.title}"
+    how = ("Each loaded node is a dot, darker for a larger load (colour bar); the legend gives the largest load and "
+           "the resultant, csv/ and results.json every load." if summarised(analysis, template) else
+           "Arrows point in the direction of the load and end at its node.")
     yield SheetFigure(safe_key("loads", state.id), "loads", state.id, f"Loads, {title}",
                       f"Nodal loads of {title} (self-weight included where the case asks for it), "
-                      f"magnitudes in {p.units.label('force')}. Arrows point in the direction of the load and end at its node.",
-                      vector=_vector(form_figure.loads_figure(p, state.loads, title)))
+                      f"magnitudes in {p.units.label('force')}. {how}",
+                      vector=_vector(form_figure.loads_figure(p, state.loads, title, template.labels_up_to)))
 
 
 def _forces(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
@@ -215,12 +242,41 @@ RECIPROCAL_CAPTION = (
     "the member; its points carry the space letters in lower case.")
 
 
+PROJECTED_CAPTION = (
+    " The frame is three-dimensional: both diagrams are projections onto the plane named above each panel (axis "
+    "triad in the corner), so force edges are foreshortened and each edge's label gives the member's true force.")
+
+
+def _summary(analysis: Analysis, template: Template, scratch: Path, state, prepared=None) -> Iterable[SheetFigure]:
+    """The force summary of one state of a frame above the label limit (sheets.render.force_summary)."""
+    from sheets.render.force_summary import force_summary_figure
+
+    p = analysis.project
+    title = f"{state_label(state)}: {state.title}"
+    limit = template.labels_up_to
+    note = closure_line(state.checks.residual, state.checks.tolerance)
+    caption = (f"The frame has {p.n_members} members, above this set's label limit of {limit}, so its forces are "
+               f"summarised: the form in the project's views with every member coloured by its force on one diverging "
+               f"scale centred at zero (vermillion compression, light grey zero, bluish green tension; colour bar in "
+               f"{p.units.label('force')}), a histogram of the member forces with tension and compression apart, and "
+               f"the extreme members. The force diagram, node force cells and Minkowski-sum view are not drawn at this "
+               f"size (`sheets draw` draws them on request); csv/forces.csv lists every member's force.")
+    yield SheetFigure(safe_key("summary", state.id), "force_diagram", state.id, f"Member forces summarised, {title}",
+                      caption, vector=_vector(force_summary_figure(p, state.forces, title, note=note)))
+
+
 def _form_and_force(analysis: Analysis, template: Template, scratch: Path, state,
                     prepared=None) -> Iterable[SheetFigure | FigureNote]:
-    """The reciprocal figure (form beside force diagram) where that stage exists; else the coloured form alone."""
+    """The reciprocal figure (form beside force diagram) where that stage exists; else the coloured form alone.
+    Frames above the label limit get the force summary instead."""
+    if summarised(analysis, template):
+        yield from _summary(analysis, template, scratch, state, prepared)
+        return
     if optional(*RECIPROCAL) is not None:
-        items = _external(*RECIPROCAL, "force_diagram", "Form and force diagrams", RECIPROCAL_CAPTION, analysis,
-                          scratch, state, vector=True, inputs=_prepared_diagram(prepared))
+        caption = RECIPROCAL_CAPTION + (PROJECTED_CAPTION if analysis.project.dim == 3 else "")
+        items = _external(*RECIPROCAL, "force_diagram", "Form and force diagrams", caption, analysis,
+                          scratch, state, vector=True,
+                          inputs={**_prepared_diagram(prepared), "labels_up_to": template.labels_up_to})
         yield from items
         if any(isinstance(i, SheetFigure) for i in items):
             return
@@ -243,6 +299,8 @@ def _polar(analysis: Analysis, template: Template, scratch: Path, state, prepare
     """The connected polyhedral force diagram, where the project gives a cell complex and a lift exists."""
     from sheets.reciprocal.polarity import project_polarity
 
+    if summarised(analysis, template):
+        return []
     polar = prepared.polar if prepared is not None and prepared.polar is not None else project_polarity(analysis, state.id)
     if not polar.usable:
         return [FigureNote(f"Polyhedral force diagram of {state_label(state)}: {polar.note}")]
@@ -250,7 +308,7 @@ def _polar(analysis: Analysis, template: Template, scratch: Path, state, prepare
                      "One connected polyhedral force diagram from a stress function lifted over the cell complex: "
                      "each member is a planar polygon perpendicular to it with area equal to its force (bluish green "
                      "tension, vermillion compression); around each node the polygons close into a cell.",
-                     analysis, scratch, state, vector=False, inputs={"polar": polar})
+                     analysis, scratch, state, vector=False, inputs={"polar": polar, "labels_up_to": template.labels_up_to})
 
 
 def _has_complex(analysis: Analysis) -> list:
@@ -259,10 +317,15 @@ def _has_complex(analysis: Analysis) -> list:
 
 
 def _state_figure(module: str, function: str, part: str, title: str, caption: str, vector_dims=(2, 3), dims=(2, 3),
-                  inputs: Callable[[Any], dict] = lambda prepared: {}):
+                  inputs: Callable[[Any], dict] = lambda prepared: {}, labels: bool = False):
+    """A source of one figure per drawn state, drawn by ``module.function``; none for frames above the label
+    limit (the force summary stands for them). ``labels``: the function takes the set's ``labels_up_to``."""
     def draw(analysis: Analysis, template: Template, scratch: Path, state, prepared=None):
+        if summarised(analysis, template):
+            return []
+        extra = {"labels_up_to": template.labels_up_to} if labels else {}
         return _external(module, function, part, title, caption, analysis, scratch, state,
-                         vector=analysis.project.dim in vector_dims, inputs=inputs(prepared))
+                         vector=analysis.project.dim in vector_dims, inputs={**inputs(prepared), **extra})
 
     def states(analysis: Analysis) -> list:
         return drawn_states(analysis) if analysis.project.dim in dims and optional(module, function) is not None else []
@@ -275,9 +338,10 @@ SOURCES: tuple[Source, ...] = (
     Source("loads", _loaded_cases, _loads),
     Source("form and force", drawn_states, _form_and_force),
     _state_figure("sheets.render.view3d", "force_views_figure", "force_diagram", "Form and force diagrams in 3D views",
-                  "Form (top row) and force diagram (bottom row) rendered in orthographic views; tube radius proportional "
-                  "to |force|, colours as in the form diagram; scale bars true for lengths parallel to each view.",
-                  dims=(3,), inputs=_prepared_diagram),
+                  "Form (top row) and force diagram (bottom row) rendered in orthographic views, every view of a row at "
+                  "one scale (its bar true for lengths parallel to the view), an axis triad in each; tube radius "
+                  "proportional to |force|, colours as in the form diagram; force labels give the true force.",
+                  dims=(3,), inputs=_prepared_diagram, labels=True),
     _state_figure("sheets.render.diagram2d", "closure_figure", "force_diagram", "Closure of the force diagram",
                   "How closely the drawn force diagram closes: each node's force polygon and the load line (left), each "
                   "edge against its analysed force (middle), both relative to the largest force and against the tolerance; "
@@ -292,7 +356,7 @@ SOURCES: tuple[Source, ...] = (
                   "The sum (1 - s) form + s force: every member becomes a rectangle (2D) or prism (3D) whose size is "
                   "proportional to |force| x length, its share of the load path (bluish green tension, vermillion "
                   "compression); the totals are set beside Maxwell's load path theorem.", vector_dims=(2,),
-                  inputs=_prepared_view),
+                  inputs=_prepared_view, labels=True),
     Source("displaced shape", _serviceability_states, _displaced),
 )
 

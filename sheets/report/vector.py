@@ -127,8 +127,30 @@ def _style_operators(style: _Style) -> str:
     return " ".join(ops)
 
 
+_WORDS = {MplPath.MOVETO: "%.2f %.2f m", MplPath.LINETO: "%.2f %.2f l", MplPath.CLOSEPOLY: "h"}
+
+
 def _code(path: MplPath, transform, clip=None, simplify=None) -> str:
-    """Matplotlib path -> PDF path operators (m, l, c, h) in points, two decimals."""
+    """Matplotlib path -> PDF path operators (m, l, c, h) in points, two decimals.
+
+    The segments are those ``path.iter_segments`` yields (matplotlib's own cleaning: NaNs, clip box,
+    simplification); a path of straight segments only is formatted in one go instead of walked."""
+    if not len(path):
+        return ""
+    cleaned = path.cleaned(transform=transform, remove_nans=True, clip=clip, simplify=simplify, curves=True)
+    codes = cleaned.codes
+    stop = np.flatnonzero(codes == MplPath.STOP)
+    end = int(stop[0]) if len(stop) else len(codes)
+    codes = codes[:end]
+    if ((codes == MplPath.MOVETO) | (codes == MplPath.LINETO) | (codes == MplPath.CLOSEPOLY)).all():
+        keep = codes != MplPath.CLOSEPOLY
+        template = " ".join(_WORDS[c] for c in codes.tolist())
+        return template % tuple(cleaned.vertices[:end][keep].ravel().tolist())
+    return _walk(path, transform, clip, simplify)
+
+
+def _walk(path: MplPath, transform, clip=None, simplify=None) -> str:
+    """``_code`` segment by segment (curves; and the reference for the one-go route)."""
     out = []
     last = (0.0, 0.0)
     for verts, code in path.iter_segments(transform, clip=clip, simplify=simplify, curves=True):
@@ -151,13 +173,127 @@ def _code(path: MplPath, transform, clip=None, simplify=None) -> str:
     return " ".join(out)
 
 
+def _paint(gc, rgbFace) -> tuple | None:
+    """(style operators, (fill alpha, stroke alpha), paint operator) of a path drawn with ``gc``, or None if invisible."""
+    alpha = gc.get_alpha()
+    forced = gc.get_forced_alpha()
+    fill = None
+    if rgbFace is not None:
+        rgba = tuple(float(c) for c in rgbFace)
+        a = alpha if forced or len(rgba) < 4 else rgba[3]
+        if a > 0:
+            fill = (*rgba[:3], float(a))
+    stroke = None
+    width = float(gc.get_linewidth())
+    rgb = gc.get_rgb()
+    if width > 0 and rgb is not None and rgb[3] > 0:
+        stroke = (float(rgb[0]), float(rgb[1]), float(rgb[2]), float(rgb[3]))
+    if fill is None and stroke is None:
+        return None
+    offset, dashes = gc.get_dashes()
+    dash = (float(offset or 0.0), tuple(float(d) for d in dashes)) if dashes is not None and len(dashes) else None
+    style = _Style(stroke, fill, width, _CAP.get(gc.get_capstyle(), 0), _JOIN.get(gc.get_joinstyle(), 0), dash)
+    paint = "B" if fill is not None and stroke is not None else "f" if fill is not None else "S"
+    return _style_operators(style), (fill[3] if fill is not None else 1.0, stroke[3] if stroke is not None else 1.0), paint
+
+
+def _bulk_ok(gc, master_transform, paths, all_transforms, offsets, offset_trans) -> bool:
+    """A collection the bulk route reproduces exactly: affine, no per-path transforms, no offsets, no hatch."""
+    if len(all_transforms) or not master_transform.is_affine or gc.get_hatch_path() is not None:
+        return False
+    if len(offsets) > len(paths) or (len(offsets) and np.any(np.asarray(offset_trans.transform(offsets)) != 0)):
+        return False
+    return True
+
+
+def _plain(path: MplPath) -> bool:
+    """Straight segments only (no curves), so operators can be formatted without walking the path."""
+    codes = path.codes
+    if codes is None:
+        return True
+    if len(codes) == 0 or codes[0] != MplPath.MOVETO:
+        return False
+    return bool(np.all((codes[1:] == MplPath.LINETO) | (codes[1:] == MplPath.CLOSEPOLY)))
+
+
+def _format(kinds: tuple, count: int) -> str:
+    """The ``%`` template of a straight path of ``count`` vertices (codes ``kinds``, () for move then lines)."""
+    if not kinds:
+        return " ".join(["%.2f %.2f m"] + ["%.2f %.2f l"] * (count - 1))
+    words = []
+    for k in kinds:
+        words.append({MplPath.MOVETO: "%.2f %.2f m", MplPath.LINETO: "%.2f %.2f l", MplPath.CLOSEPOLY: "h"}[k])
+    return " ".join(words)
+
+
+def _collection_styles(gc, n: int, facecolors, edgecolors, linewidths, linestyles) -> list:
+    """Each member's (``_paint`` result, has a face colour), as ``RendererBase._iter_collection`` would set up its gc (colours,
+    widths and dashes cycled over the members; a transparent edge or face is none)."""
+    from matplotlib.colors import to_rgba_array
+
+    faces = to_rgba_array(facecolors) if len(facecolors) else None
+    edges = to_rgba_array(edgecolors) if len(edgecolors) else None
+    gc0 = gc.__class__()
+    gc0.copy_properties(gc)
+    if edges is None:
+        gc0.set_linewidth(0.0)
+    cache: dict = {}
+    out = []
+    width = gc0.get_linewidth()
+    dashes = gc0.get_dashes()
+    for i in range(n):
+        if edges is not None:
+            if len(linewidths):
+                width = float(linewidths[i % len(linewidths)])
+            if len(linestyles):
+                dashes = linestyles[i % len(linestyles)]
+            ec = tuple(edges[i % len(edges)].tolist())
+            if ec[3] == 0.0:
+                rgb, lw = gc0.get_rgb(), 0.0
+            else:
+                rgb, lw = (ec[:3] + (gc0.get_alpha(),) if gc0.get_forced_alpha() else ec), width
+        else:
+            rgb, lw = gc0.get_rgb(), 0.0
+        fc = None
+        if faces is not None:
+            fc = tuple(faces[i % len(faces)].tolist())
+            if fc[3] == 0:
+                fc = None
+        key = (rgb, lw, None if dashes is None else (dashes[0], None if dashes[1] is None else tuple(dashes[1])), fc)
+        if key not in cache:
+            gc0._rgb = rgb
+            gc0.set_linewidth(lw)
+            gc0.set_dashes(*dashes)
+            cache[key] = _paint(gc0, fc), fc is not None
+        out.append(cache[key])
+    return out
+
+
+def merge_strokes(ops: list) -> list:
+    """Consecutive opaque stroked paths of one style and clip become one path of many subpaths.
+
+    The page is the same: an opaque stroke paints the union of its subpaths, and PDF restarts the
+    dash pattern at each subpath. Fills and translucent strokes are left apart (overlaps would differ).
+    """
+    runs: list[list] = []  # [first op, [codes]]: codes joined once at the end (no quadratic concatenation)
+    for op in ops:
+        if runs and op[0] == "path" and op[4] == "S" and op[3] == (1.0, 1.0):
+            first = runs[-1][0]
+            if first[0] == "path" and first[4] == "S" and first[2:] == op[2:]:
+                runs[-1][1].append(op[1])
+                continue
+        runs.append([op, [op[1]] if op[0] == "path" else None])
+    return [op if codes is None or len(codes) == 1 else ("path", " ".join(codes), *op[2:]) for op, codes in runs]
+
+
 class Recorder(RendererBase):
     """A matplotlib renderer that records paths in points (dpi 72) instead of drawing them."""
 
-    def __init__(self, width: float, height: float):
+    def __init__(self, width: float, height: float, bulk: bool = True):
         super().__init__()
         self.width = width
         self.height = height
+        self.bulk = bulk  # False: every collection member goes through draw_path (the reference route)
         self.ops: list = []
         self._clip_cache: dict = {}
 
@@ -191,31 +327,61 @@ class Recorder(RendererBase):
         return None
 
     def draw_path(self, gc, path, transform, rgbFace=None):
-        alpha = gc.get_alpha()
-        forced = gc.get_forced_alpha()
-        fill = None
-        if rgbFace is not None:
-            rgba = tuple(float(c) for c in rgbFace)
-            a = alpha if forced or len(rgba) < 4 else rgba[3]
-            if a > 0:
-                fill = (*rgba[:3], float(a))
-        stroke = None
-        width = float(gc.get_linewidth())
-        rgb = gc.get_rgb()
-        if width > 0 and rgb is not None and rgb[3] > 0:
-            stroke = (float(rgb[0]), float(rgb[1]), float(rgb[2]), float(rgb[3]))
-        if fill is None and stroke is None:
+        painted = _paint(gc, rgbFace)
+        if painted is None:
             return
-        offset, dashes = gc.get_dashes()
-        dash = (float(offset or 0.0), tuple(float(d) for d in dashes)) if dashes is not None and len(dashes) else None
-        style = _Style(stroke, fill, width, _CAP.get(gc.get_capstyle(), 0), _JOIN.get(gc.get_joinstyle(), 0), dash)
-        # drop segments far outside the figure only for unfilled lines (as matplotlib's own PDF backend does)
-        clip = (-1.0, -1.0, self.width + 1, self.height + 1) if rgbFace is None and gc.get_hatch_path() is None else None
-        code = _code(path, transform, clip=clip, simplify=path.should_simplify and clip is not None)
+        code = _code(path, transform, *self._segment_options(gc, rgbFace, path))
         if code:
-            paint = "B" if fill is not None and stroke is not None else "f" if fill is not None else "S"
-            alpha = (fill[3] if fill is not None else 1.0, stroke[3] if stroke is not None else 1.0)
-            self.ops.append(("path", code, _style_operators(style), alpha, paint, self._clip(gc)))
+            self.ops.append(("path", code, *painted, self._clip(gc)))
+
+    def _segment_options(self, gc, rgbFace, path) -> tuple:
+        """(clip box, simplify) for ``_code``: segments far outside the figure are dropped only for unfilled
+        lines (as matplotlib's own PDF backend does)."""
+        clip = (-1.0, -1.0, self.width + 1, self.height + 1) if rgbFace is None and gc.get_hatch_path() is None else None
+        return clip, path.should_simplify and clip is not None
+
+    def draw_path_collection(self, gc, master_transform, paths, all_transforms, offsets, offset_trans, facecolors,
+                             edgecolors, linewidths, linestyles, antialiaseds, urls, offset_position, **kw):
+        """Line and polygon collections in bulk (numpy), giving exactly the operators of the one-by-one route
+        (``RendererBase.draw_path_collection`` -> ``draw_path``); other collections take that route."""
+        if not self.bulk or not _bulk_ok(gc, master_transform, paths, all_transforms, offsets, offset_trans):
+            return super().draw_path_collection(gc, master_transform, paths, all_transforms, offsets, offset_trans,
+                                                facecolors, edgecolors, linewidths, linestyles, antialiaseds, urls,
+                                                offset_position, **kw)
+        n = len(paths)
+        if n == 0 or (len(facecolors) == 0 and len(edgecolors) == 0):
+            return
+        styles = _collection_styles(gc, n, facecolors, edgecolors, linewidths, linestyles)
+        clip = self._clip(gc)
+        codes = [None] * n
+        bulk: dict[tuple, list[int]] = {}  # paths of one shape (vertex count, codes) whose operators are formatted together
+        for i, path in enumerate(paths):
+            painted, faced = styles[i]
+            if painted is None:
+                continue
+            # the clip box closes an unfilled polygon with an explicit line back to its start: walk those
+            if _plain(path) and not path.should_simplify and (faced or path.codes is None or path.codes[-1] != MplPath.CLOSEPOLY):
+                kinds = () if path.codes is None else tuple(path.codes.tolist())
+                bulk.setdefault((len(path.vertices), kinds, faced), []).append(i)
+            else:
+                codes[i] = _code(path, master_transform, *self._segment_options(gc, faced or None, path))
+        box = (-1.0, -1.0, self.width + 1, self.height + 1)
+        for (count, kinds, faced), members in bulk.items():
+            verts = master_transform.transform(np.concatenate([paths[i].vertices for i in members]))
+            verts = verts.reshape(len(members), count, 2)
+            drawn = np.ones(count, dtype=bool) if not kinds else np.asarray(kinds) != MplPath.CLOSEPOLY
+            inside = np.isfinite(verts[:, drawn]).all(axis=(1, 2))
+            if not faced:  # a path the clip box would change goes the one-by-one way
+                v = verts[:, drawn]
+                inside &= ((v[..., 0] >= box[0]) & (v[..., 0] <= box[2]) & (v[..., 1] >= box[1]) & (v[..., 1] <= box[3])).all(axis=1)
+            template = _format(kinds, count)
+            rows = verts[:, drawn].reshape(len(members), -1).tolist()
+            for i, ok, row in zip(members, inside.tolist(), rows):
+                codes[i] = (template % tuple(row) if ok else
+                            _code(paths[i], master_transform, *self._segment_options(gc, faced or None, paths[i])))
+        for i in range(n):
+            if codes[i]:
+                self.ops.append(("path", codes[i], *styles[i][0], clip))
 
     def draw_image(self, gc, x, y, im, transform=None):
         from PIL import Image
@@ -226,17 +392,18 @@ class Recorder(RendererBase):
         self.ops.append(("image", float(x), float(y), float(w), float(h), buf.getvalue(), self._clip(gc)))
 
 
-def record(figure: Figure) -> VectorFigure:
-    """Draw a matplotlib figure once into a VectorFigure (in points)."""
+def record(figure: Figure, bulk: bool = True) -> VectorFigure:
+    """Draw a matplotlib figure once into a VectorFigure (in points); ``bulk``: collections in bulk
+    (False: one path at a time, the reference the bulk route is tested against)."""
     dpi = figure.dpi
     try:
         figure.set_dpi(72)
         width, height = figure.get_size_inches() * 72
-        recorder = Recorder(float(width), float(height))
+        recorder = Recorder(float(width), float(height), bulk)
         figure.draw(recorder)
     finally:
         figure.set_dpi(dpi)
-    return VectorFigure(round(float(width), 3), round(float(height), 3), tuple(recorder.ops))
+    return VectorFigure(round(float(width), 3), round(float(height), 3), tuple(merge_strokes(recorder.ops)))
 
 
 class VectorFlowable(Flowable):

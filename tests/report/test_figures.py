@@ -39,7 +39,7 @@ def test_a_figure_that_fails_is_noted_and_the_form_still_drawn(tmp_path, monkeyp
 
     broken = types.ModuleType("sheets_test_broken_render")
 
-    def reciprocal_figure(analysis, state_id, path, fmt=None):
+    def reciprocal_figure(analysis, state_id, path, fmt=None, **inputs):  # inputs: diagram, labels_up_to
         raise ValueError("no planar embedding")
 
     broken.reciprocal_figure = reciprocal_figure

@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+import numpy as np
 import pdfplumber
 import pytest
 from matplotlib.figure import Figure
 
+from sheets.report import vector
 from sheets.report.vector import read_vector_file, record
 
 
@@ -49,3 +51,69 @@ def test_savefig_rlvec_round_trip(tmp_path):
     path = tmp_path / "fig.part.rlvec"
     fig.savefig(path, dpi=200, metadata={})
     assert read_vector_file(path) == record(_line_figure())
+
+
+def _collections_figure():
+    """Every kind of collection the sheets draw: lines of many colours, widths and dashes (some running off
+    the page), translucent and opaque filled polygons, unfilled closed polygons, and a scatter (offsets)."""
+    from matplotlib.collections import LineCollection, PolyCollection
+
+    rng = np.random.default_rng(7)
+    segs = rng.uniform(-0.1, 1.1, (300, 2, 2))
+    polys = rng.uniform(0, 1, (40, 5, 2))
+    fig = Figure(figsize=(3, 2))
+    ax = fig.add_axes((0.05, 0.05, 0.9, 0.9))
+    ax.set_xlim(0, 1)
+    ax.set_ylim(0, 1)
+    ax.add_collection(LineCollection(segs, colors=["#009E73", "#D55E00", "#999999"] * 100,
+                                     linewidths=np.repeat([0.5, 1.0, 2.0], 100), linestyles=["solid", "dashed"] * 150))
+    ax.add_collection(LineCollection(segs[:50, :, ::-1], colors="#000000", linewidths=0.8))  # one style: merged
+    ax.add_collection(PolyCollection(polys[:20], facecolors=["#56B4E9", "#000000"], edgecolors="none", alpha=0.6))
+    ax.add_collection(PolyCollection(polys[20:], facecolors="none", edgecolors="#222222", linewidths=0.7))
+    ax.scatter(*rng.uniform(0, 1, (2, 30)), s=8, color="#CC79A7")
+    ax.set_title("collections")
+    return fig
+
+
+def test_bulk_collections_record_exactly_what_one_path_at_a_time_records():
+    fast = record(_collections_figure())
+    slow = record(_collections_figure(), bulk=False)
+    assert fast == slow  # the same operators, byte for byte: the same drawing
+    assert fast.pdf_bytes("c") == slow.pdf_bytes("c")
+
+
+def test_bulk_route_is_taken_and_strokes_of_one_style_are_merged(monkeypatch):
+    calls = []
+    original = vector.Recorder.draw_path
+
+    def counting(self, *args, **kw):
+        calls.append(1)
+        return original(self, *args, **kw)
+
+    monkeypatch.setattr(vector.Recorder, "draw_path", counting)
+    fig = _collections_figure()
+    vector.record(fig)
+    bulk_calls = len(calls)
+    calls.clear()
+    vector.record(_collections_figure(), bulk=False)
+    assert bulk_calls < len(calls) - 300  # the 300 lines (and 40 polygons) skipped draw_path
+    # merging: consecutive opaque strokes of one style become one path whose subpaths are the originals
+    ops = [("path", "0 0 m 1 1 l", "s", (1.0, 1.0), "S", None), ("path", "2 2 m 3 3 l", "s", (1.0, 1.0), "S", None),
+           ("path", "4 4 m 5 5 l", "s", (0.5, 0.5), "S", None), ("path", "6 6 m 7 7 l h", "s", (1.0, 1.0), "f", None)]
+    merged = vector.merge_strokes(ops)
+    assert merged[0] == ("path", "0 0 m 1 1 l 2 2 m 3 3 l", "s", (1.0, 1.0), "S", None)
+    assert merged[1:] == ops[2:]  # translucent strokes and fills stay apart
+
+
+def test_long_paths_formatted_in_one_go_match_the_segment_walk():
+    from matplotlib.path import Path as MplPath
+    from matplotlib.transforms import Affine2D
+
+    rng = np.random.default_rng(3)
+    pts = rng.uniform(-20, 180, (3000, 2))
+    pts[::7] = np.nan  # NaN breaks, as diagram2d._add_lines joins segments
+    closed = MplPath([(10, 10), (50, 10), (50, 40), (0, 0)], [1, 2, 2, 79])
+    move = Affine2D().scale(0.9).translate(3, -2)
+    for path in (MplPath(pts), MplPath(pts[:60]), closed):
+        for clip, simplify in (((-1.0, -1.0, 145.0, 73.0), True), (None, False)):
+            assert vector._code(path, move, clip, simplify) == vector._walk(path, move, clip, simplify)

@@ -5,8 +5,9 @@ Three kinds, each a matplotlib Figure built without pyplot (no global state):
 - ``model_figure``: the frame with node and member labels and the supports;
 - ``loads_figure``: the frame in grey with the nodal loads of one load case;
 - ``forces_figure``: the frame coloured by the member forces of one state
-  (tension bluish green, compression vermillion, zero-force grey; line width
-  proportional to |force|), with its loads (black) and reactions (sky blue).
+  (tension bluish green and solid, compression vermillion and dashed, zero-force
+  grey; line width proportional to |force|; labels carry the signed force), with
+  its loads (black) and reactions (blue).
 
 A 3D frame is drawn as orthographic views (the project's [drawing] views:
 plan, front, side, axonometric), one panel each. Every figure has a legend and
@@ -28,9 +29,12 @@ from sheets.model.project import Project
 from sheets.model.schema import NAMED_DIRECTIONS
 from sheets.reciprocal.projection import plane_basis
 from sheets.render import palette
+from sheets.render.labels import Labels, offset_text
 
 PANEL_INCHES = 6.4  # width of a single-view figure
 FONT = 6.5
+NOTE_INCHES = 0.12  # a line under the legend for the labels left out
+SMALL = 6.0  # the smallest text: at PANEL_INCHES the figure prints at 1:1 or larger on every template
 
 
 def _views(project: Project) -> list[tuple[str, np.ndarray]]:
@@ -62,7 +66,7 @@ def _legend(fig: Figure, handles, title: str, ncol: int) -> float:
     """A legend under the panels; returns the height it needs (inches)."""
     fig.legend(handles=handles, loc="lower center", ncol=ncol, fontsize=FONT, frameon=False, title=title, title_fontsize=FONT)
     rows = 1 + math.ceil(len(handles) / ncol)
-    return rows * FONT * 1.8 / 72 + 0.08
+    return rows * FONT * 1.8 / 72 + 0.08 + NOTE_INCHES
 
 
 def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
@@ -80,6 +84,8 @@ def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
     heights = [panel * max(row) for row in rows]
     height = sum(heights) + title * len(rows) + legend_inches
     fig.set_size_inches(PANEL_INCHES, height)
+    for legend in fig.legends:
+        legend.set_bbox_to_anchor((0.5, NOTE_INCHES / height), transform=fig.transFigure)
     top = height
     for r, row_height in enumerate(heights):
         top -= title
@@ -113,20 +119,27 @@ def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
     ax.update_datalim([[x0, y0 - 0.045 * _extent(xy)]])
 
 
-def _members(ax, project: Project, xy: np.ndarray, colours, widths, zorder=2):
+def _members(ax, project: Project, xy: np.ndarray, colours, widths, zorder=2, styles="solid"):
     segs = xy[project.ends]
-    ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, capstyle="round", zorder=zorder))
+    ax.add_collection(LineCollection(segs, colors=colours, linewidths=widths, linestyles=styles, capstyle="round",
+                                     zorder=zorder))
 
 
-def _labels(ax, project: Project, xy: np.ndarray, members: bool = True, nodes: bool = True):
+def _labels(ax, project: Project, xy: np.ndarray, members: bool = True, nodes: bool = True, placer: Labels | None = None,
+            texts=None, order=None):
+    """Node ids, and member ids (or ``texts``, one per member, in ``order`` of importance)."""
+    placer = placer if placer is not None else Labels()
     if nodes:
         for nid, (x, y) in zip(project.node_ids, xy):
-            ax.annotate(nid, (x, y), xytext=(2.5, 2.5), textcoords="offset points", fontsize=FONT, color=palette.NODE)
+            placer.add(offset_text(ax, (x, y), (2.5, 2.5), nid, fontsize=FONT, color=palette.NODE, ha="left",
+                                   va="bottom"))
     if members:
         mid = xy[project.ends].mean(axis=1)
-        for label, (x, y) in zip(project.member_ids, mid):
-            ax.text(x, y, label, fontsize=FONT - 0.5, color=palette.LABEL, ha="center", va="center",
-                    bbox=dict(boxstyle="round,pad=0.12", fc="white", ec="none", alpha=0.8), zorder=5)
+        texts = project.member_ids if texts is None else texts
+        for e in (range(project.n_members) if order is None else order):
+            placer.add(ax.text(mid[e, 0], mid[e, 1], texts[e], fontsize=SMALL, color=palette.LABEL, ha="center",
+                               va="center", bbox=dict(boxstyle="round,pad=0.12", fc="white", ec="none", alpha=0.8),
+                               zorder=5))
 
 
 def _supports(ax, project: Project, xy: np.ndarray, proj: np.ndarray, size: float):
@@ -139,7 +152,7 @@ def _supports(ax, project: Project, xy: np.ndarray, proj: np.ndarray, size: floa
     if len(supported) <= (60 if project.dim == 2 else 16):
         for n in supported:
             axes = "".join(a for a, f in zip(project.axes, project.fixed[n]) if f)
-            ax.annotate(axes, (xy[n, 0], xy[n, 1]), xytext=(0, -9), textcoords="offset points", fontsize=FONT - 1,
+            ax.annotate(axes, (xy[n, 0], xy[n, 1]), xytext=(0, -9), textcoords="offset points", fontsize=SMALL,
                         ha="center", va="top", color=palette.LABEL)
 
 
@@ -187,18 +200,28 @@ def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
     """The frame with node and member labels and the supports."""
     fig, axes, views, xys = _layout(project)
     labelled = project.n_members <= labels_up_to
+    placer = Labels()
     for ax, (_, proj), xy in zip(axes, views, xys):
         _members(ax, project, xy, palette.LABEL, 0.8)
         if labelled:
             ax.scatter(xy[:, 0], xy[:, 1], s=6, color=palette.NODE, zorder=3)
-            _labels(ax, project, xy)
+            _labels(ax, project, xy, placer=placer)
         _supports(ax, project, xy, proj, 40 if labelled else 12)
         _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
     handles = [Line2D([], [], color=palette.LABEL, lw=0.8, label="member"),
                Line2D([], [], marker="^", ls="", mfc="white", mec=palette.NODE, label="support (fixed axes named)")]
     note = "" if labelled else f" (labels omitted above {labels_up_to} members)"
     space = _legend(fig, handles, f"Form diagram, {project.n_nodes} nodes, {project.n_members} members{note}", 2)
-    return _finish(fig, axes, space)
+    return _placed(_finish(fig, axes, space), placer)
+
+
+def _placed(fig: Figure, placer: Labels) -> Figure:
+    """Labels placed clear of each other once the panels are final; the count left out said under the legend."""
+    placer.place(fig)
+    if placer.dropped:
+        fig.text(0.5, 0.002, placer.note(), ha="center", va="bottom", fontsize=SMALL, color=palette.LABEL,
+                 gid="label-note")
+    return fig
 
 
 def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
@@ -218,7 +241,7 @@ def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
         if len(loaded) <= 40:
             for n, v in zip(loaded, loads[loaded]):
                 tail = xy[n] - (v @ proj) * scale
-                ax.annotate(f"{np.linalg.norm(v) / f_factor:.3g}", tail, fontsize=FONT - 0.5, ha="center", va="bottom",
+                ax.annotate(f"{np.linalg.norm(v) / f_factor:.3g}", tail, fontsize=SMALL, ha="center", va="bottom",
                             xytext=(0, 2), textcoords="offset points")
         _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
     handles = [Line2D([], [], color=palette.LOAD, lw=2, label=f"load (arrow {0.12:.0%} of frame size = {largest / f_factor:.3g} {f_unit})"),
@@ -237,26 +260,31 @@ def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, react
     largest = float(np.abs(forces).max(initial=0.0))
     colours = [palette.force_colour(t, largest) for t in forces]
     widths = [palette.line_width(t, largest) for t in forces]
+    styles = [palette.line_style(t, largest) for t in forces]
+    signed = [f"{mid} {palette.signed(t / f_factor)}" for mid, t in zip(project.member_ids, forces)]
+    strongest = np.argsort(-np.abs(forces), kind="stable")
+    placer = Labels()
     loaded = np.flatnonzero(np.abs(loads).max(axis=1) > 0)
     supported = np.flatnonzero(np.abs(reactions).max(axis=1) > 0)
     arrow_max = 0.0
     for ax, (_, proj), xy in zip(axes, views, xys):
-        _members(ax, project, xy, colours, widths)
+        _members(ax, project, xy, colours, widths, styles=styles)
         scale, arrow_max = _force_scale([loads[loaded], reactions[supported]], _extent(xy))
         head = 0.02 * _extent(xy)
         _arrows(ax, xy[loaded], loads[loaded] @ proj, palette.LOAD, scale, head, tail_at_node=False)
         _arrows(ax, xy[supported], reactions[supported] @ proj, palette.REACTION, scale, head, tail_at_node=True)
         if project.n_members <= labels_up_to:
-            _labels(ax, project, xy, nodes=False)
+            _labels(ax, project, xy, nodes=False, placer=placer, texts=signed, order=strongest)
         _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
     thick = palette.line_width(largest, largest)
     half = palette.line_width(largest / 2, largest)
     handles = [
-        Line2D([], [], color=palette.TENSION, lw=half, label="tension"),
-        Line2D([], [], color=palette.COMPRESSION, lw=half, label="compression"),
+        Line2D([], [], color=palette.TENSION, lw=half, label=f"tension (+, solid; labels: id and force in {f_unit})"),
+        Line2D([], [], color=palette.COMPRESSION, lw=half, ls=palette.COMPRESSION_STYLE,
+               label=f"compression ({palette.MINUS}, dashed)"),
         Line2D([], [], color=palette.ZERO_FORCE, lw=palette.line_width(0, largest), label="zero force"),
         Line2D([], [], color=palette.LABEL, lw=thick, label=f"width {thick:.1f} pt = {largest / f_factor:.4g} {f_unit}"),
         Line2D([], [], color=palette.LOAD, lw=2, label="load"),
         Line2D([], [], color=palette.REACTION, lw=2, label=f"reaction (longest arrow {arrow_max / f_factor:.4g} {f_unit})"),
     ]
-    return _finish(fig, axes, _legend(fig, handles, title, 3))
+    return _placed(_finish(fig, axes, _legend(fig, handles, title, 2)), placer)

@@ -35,6 +35,17 @@ class IssuedFile:
     content: str
 
 
+class Numbering:
+    """Figure (and table) numbers through the whole set, in reading order: the one place they are counted."""
+
+    def __init__(self):
+        self.counts: dict[str, int] = {}
+
+    def next(self, kind: str) -> str:
+        self.counts[kind] = self.counts.get(kind, 0) + 1
+        return f"{kind} {self.counts[kind]}"
+
+
 @dataclass(frozen=True)
 class SheetSet:
     """Everything the sections draw from; ``sizing`` is None where that stage is absent."""
@@ -48,6 +59,7 @@ class SheetSet:
     issued: tuple[IssuedFile, ...] = ()
     sizing: Any | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)  # parts not in this set, and why
+    numbering: Numbering = field(default_factory=Numbering, compare=False)
 
     @property
     def project(self):
@@ -76,7 +88,8 @@ def figure(fig: SheetFigure, sheet: SheetSet, st: Styles, number: str = "") -> l
         w, h = fig.png_size
         scale = min(sheet.width / w, max_h / h)
         body = Image(io.BytesIO(fig.png), width=w * scale, height=h * scale)
-    caption = para(f"<b>{escape(number + ' ' if number else '')}{escape(fig.title)}.</b> {escape(fig.caption)} "
+    number = number or sheet.numbering.next("Figure")
+    caption = para(f"<b>{escape(number)}. {escape(fig.title)}.</b> {escape(fig.caption)} "
                    f"<font color='#555555'>(figures/{escape(fig.file_name)})</font>", st, "caption")
     return [KeepTogether([body, caption])]
 

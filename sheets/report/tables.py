@@ -62,7 +62,13 @@ class Styles:
     fonts: Fonts
 
 
+SMALLEST = 6.0  # points: no printed text is smaller
+
+
 def make_styles(fonts: Fonts, size: float) -> Styles:
+    def smaller(by: float) -> float:
+        return max(SMALLEST, size - by)
+
     def style(name, **kw):
         base = dict(fontName=fonts.regular, bulletFontName=fonts.regular, fontSize=size, leading=size * 1.3, alignment=TA_LEFT)
         base.update(kw)
@@ -70,10 +76,10 @@ def make_styles(fonts: Fonts, size: float) -> Styles:
 
     return Styles(
         body=style("body", spaceAfter=size * 0.5),
-        small=style("small", fontSize=size - 1.5, leading=(size - 1.5) * 1.3, spaceAfter=size * 0.4),
-        cell=style("cell", fontSize=size - 1, leading=(size - 1) * 1.2),
-        cell_head=style("cell_head", fontName=fonts.bold, fontSize=size - 1, leading=(size - 1) * 1.2),
-        caption=style("caption", fontSize=size - 1, leading=(size - 1) * 1.3, textColor=colors.HexColor("#333333"),
+        small=style("small", fontSize=smaller(1.5), leading=smaller(1.5) * 1.3, spaceAfter=size * 0.4),
+        cell=style("cell", fontSize=smaller(1), leading=smaller(1) * 1.2),
+        cell_head=style("cell_head", fontName=fonts.bold, fontSize=smaller(1), leading=smaller(1) * 1.2),
+        caption=style("caption", fontSize=smaller(1), leading=smaller(1) * 1.3, textColor=colors.HexColor("#333333"),
                       spaceBefore=2, spaceAfter=size),
         h0=style("h0", fontName=fonts.bold, fontSize=size + 5, leading=(size + 5) * 1.25, spaceBefore=0,
                  spaceAfter=size * 0.8, keepWithNext=1),

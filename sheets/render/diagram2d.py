@@ -206,7 +206,8 @@ def _text(ax, x, y, text, placer: Labels | None = None, **kw):
 def _member_label(diagram: ForceDiagram, e: int) -> str:
     """Member id and its force with the sign written out (tension +): the sense survives a greyscale print."""
     units = diagram.units
-    return f"{diagram.graph.element_ids[e]} {palette.signed(units.to_display(diagram.graph.forces[e], 'force'))}"
+    force = units.to_display(diagram.graph.forces[e], "force")
+    return f"{diagram.graph.element_ids[e]} {palette.signed(force, largest=units.to_display(diagram.force_scale, 'force'))}"
 
 
 SEGMENTS_ONE_BY_ONE = 2000  # above this many lines, lines of one colour, style and width are drawn as one path

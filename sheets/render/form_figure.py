@@ -82,10 +82,17 @@ def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
     title = 0.22 if len(axes) > 1 else 0.0
     panel = PANEL_INCHES / cols
     heights = [panel * max(row) for row in rows]
+    if len(axes) > 1:  # one scale for every view: rows as tall as their tallest view at that scale
+        spans = [(np.ptp(ax.get_xlim()), np.ptp(ax.get_ylim())) for ax in axes]
+        per_metre = _inches_per_unit(spans, panel - 0.04, 1.4 * panel)
+        heights = [max(0.12 * panel, max(spans[r * cols + c][1] * per_metre for c in range(len(row))))
+                   for r, row in enumerate(rows)]
     height = sum(heights) + title * len(rows) + legend_inches
     fig.set_size_inches(PANEL_INCHES, height)
     for legend in fig.legends:
         legend.set_bbox_to_anchor((0.5, NOTE_INCHES / height), transform=fig.transFigure)
+    if len(axes) > 1:
+        _one_scale(axes, cols, heights, panel - 0.04, per_metre)
     top = height
     for r, row_height in enumerate(heights):
         top -= title
@@ -98,11 +105,28 @@ def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
     return fig
 
 
+def _inches_per_unit(spans, width: float, tallest: float) -> float:
+    """The one drawing scale (inches per data unit) at which every view fits ``width`` and ``tallest``."""
+    return min(min(width / max(w, 1e-12), tallest / max(h, 1e-12)) for w, h in spans)
+
+
+def _one_scale(axes, cols: int, heights, width: float, per_metre: float) -> None:
+    """Limits that draw every view at ``per_metre`` inches per unit, equal in x and y: the figure's one
+    scale bar holds for all."""
+    for k, ax in enumerate(axes):
+        row_height = heights[k // cols]
+        cx, cy = np.mean(ax.get_xlim()), np.mean(ax.get_ylim())
+        half_w, half_h = width / per_metre / 2, row_height / per_metre / 2
+        ax.set_aspect("auto")
+        ax.set_xlim(cx - half_w, cx + half_w)
+        ax.set_ylim(cy - half_h, cy + half_h)
+
+
 def _extent(xy: np.ndarray) -> float:
     return float(np.ptp(xy, axis=0).max()) if len(xy) > 1 else 1.0
 
 
-def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
+def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float, note: str = ""):
     """A length scale bar under the frame: a round length in the display unit."""
     extent = _extent(xy) / factor
     step = 10 ** math.floor(math.log10(extent / 4)) if extent > 0 else 1.0
@@ -115,7 +139,8 @@ def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
     ax.plot([x0, x0 + length], [y0, y0], color=palette.LABEL, lw=1.2, solid_capstyle="butt")
     for x in (x0, x0 + length):
         ax.plot([x, x], [y0 - 0.01 * _extent(xy), y0 + 0.01 * _extent(xy)], color=palette.LABEL, lw=0.8)
-    ax.text(x0 + length / 2, y0 - 0.02 * _extent(xy), f"{step:g} {unit}", ha="center", va="top", fontsize=FONT)
+    ax.text(x0 + length / 2, y0 - 0.02 * _extent(xy), f"{step:g} {unit}{note}", ha="center", va="top", fontsize=FONT,
+            gid="scale-bar")
     ax.update_datalim([[x0, y0 - 0.045 * _extent(xy)]])
 
 
@@ -207,7 +232,9 @@ def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
             ax.scatter(xy[:, 0], xy[:, 1], s=6, color=palette.NODE, zorder=3)
             _labels(ax, project, xy, placer=placer)
         _supports(ax, project, xy, proj, 40 if labelled else 12)
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+        if ax is axes[0]:  # one scale for the figure: one bar, stated once
+            _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"),
+                       " (every view)" if len(axes) > 1 else "")
     handles = [Line2D([], [], color=palette.LABEL, lw=0.8, label="member"),
                Line2D([], [], marker="^", ls="", mfc="white", mec=palette.NODE, label="support (fixed axes named)")]
     note = "" if labelled else f" (labels omitted above {labels_up_to} members)"
@@ -243,7 +270,9 @@ def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
                 tail = xy[n] - (v @ proj) * scale
                 ax.annotate(f"{np.linalg.norm(v) / f_factor:.3g}", tail, fontsize=SMALL, ha="center", va="bottom",
                             xytext=(0, 2), textcoords="offset points")
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+        if ax is axes[0]:  # one scale for the figure: one bar, stated once
+            _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"),
+                       " (every view)" if len(axes) > 1 else "")
     handles = [Line2D([], [], color=palette.LOAD, lw=2, label=f"load (arrow {0.12:.0%} of frame size = {largest / f_factor:.3g} {f_unit})"),
                Line2D([], [], color=palette.ZERO_FORCE, lw=0.7, label="member")]
     if project.dim == 3:
@@ -261,7 +290,7 @@ def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, react
     colours = [palette.force_colour(t, largest) for t in forces]
     widths = [palette.line_width(t, largest) for t in forces]
     styles = [palette.line_style(t, largest) for t in forces]
-    signed = [f"{mid} {palette.signed(t / f_factor)}" for mid, t in zip(project.member_ids, forces)]
+    signed = [f"{mid} {palette.signed(t / f_factor, largest=largest / f_factor)}" for mid, t in zip(project.member_ids, forces)]
     strongest = np.argsort(-np.abs(forces), kind="stable")
     placer = Labels()
     loaded = np.flatnonzero(np.abs(loads).max(axis=1) > 0)
@@ -275,7 +304,9 @@ def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, react
         _arrows(ax, xy[supported], reactions[supported] @ proj, palette.REACTION, scale, head, tail_at_node=True)
         if project.n_members <= labels_up_to:
             _labels(ax, project, xy, nodes=False, placer=placer, texts=signed, order=strongest)
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+        if ax is axes[0]:  # one scale for the figure: one bar, stated once
+            _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"),
+                       " (every view)" if len(axes) > 1 else "")
     thick = palette.line_width(largest, largest)
     half = palette.line_width(largest / 2, largest)
     handles = [

@@ -45,8 +45,11 @@ def line_style(force: float, largest: float):
     return TENSION_STYLE
 
 
-def signed(value: float, digits: int = 3) -> str:
-    """A force in display units with its sign always written: '+12.5', '\u22128.2', '0'."""
+def signed(value: float, digits: int = 3, largest: float = 0.0) -> str:
+    """A force in display units with its sign always written: '+12.5', '\u22128.2', '0' (also for what
+    ``force_colour`` draws as zero force, relative to ``largest`` in the same units)."""
+    if abs(value) <= ZERO_FORCE_RELATIVE * largest:
+        return "0"
     text = f"{abs(value):.{digits}g}"
     if float(text) == 0:
         return "0"

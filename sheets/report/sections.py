@@ -35,17 +35,6 @@ class IssuedFile:
     content: str
 
 
-class Numbering:
-    """Figure (and table) numbers through the whole set, in reading order: the one place they are counted."""
-
-    def __init__(self):
-        self.counts: dict[str, int] = {}
-
-    def next(self, kind: str) -> str:
-        self.counts[kind] = self.counts.get(kind, 0) + 1
-        return f"{kind} {self.counts[kind]}"
-
-
 @dataclass(frozen=True)
 class SheetSet:
     """Everything the sections draw from; ``sizing`` is None where that stage is absent."""
@@ -59,7 +48,6 @@ class SheetSet:
     issued: tuple[IssuedFile, ...] = ()
     sizing: Any | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)  # parts not in this set, and why
-    numbering: Numbering = field(default_factory=Numbering, compare=False)
 
     @property
     def project(self):
@@ -88,7 +76,7 @@ def figure(fig: SheetFigure, sheet: SheetSet, st: Styles, number: str = "") -> l
         w, h = fig.png_size
         scale = min(sheet.width / w, max_h / h)
         body = Image(io.BytesIO(fig.png), width=w * scale, height=h * scale)
-    number = number or sheet.numbering.next("Figure")
+    number = number or st.numbering.next("Figure")
     caption = para(f"<b>{escape(number)}. {escape(fig.title)}.</b> {escape(fig.caption)} "
                    f"<font color='#555555'>(figures/{escape(fig.file_name)})</font>", st, "caption")
     return [KeepTogether([body, caption])]
@@ -276,7 +264,10 @@ def model(sheet: SheetSet, st: Styles) -> list:
         ("Total member length", f"{fmt(lengths.sum() / L, 'length')} {ulabel(u, 'length')}"),
         ("Supported nodes", f"{int(p.fixed.any(axis=1).sum())} ({int(p.fixed.sum())} fixed translations)"),
     ], w * 0.8, 0.35))
-    for fig in sheet.figures_for("model"):
+    drawn = sheet.figures_for("model")
+    if drawn:
+        out.append(para(f"The frame with its node and member ids and its supports: {st.numbering.ahead('Figure', len(drawn))}.", st))
+    for fig in drawn:
         out += figure(fig, sheet, st)
     groups: dict[str, list[int]] = {}
     for e, g in enumerate(p.member_groups):
@@ -308,6 +299,7 @@ def model(sheet: SheetSet, st: Styles) -> list:
     loads = [f for f in sheet.figures if f.part == "loads"]
     if loads:
         out.append(Paragraph("Loads of each case", st.h2))
+        out.append(para(f"The nodal loads of each case: {st.numbering.ahead('Figure', len(loads))}.", st))
     for fig in loads:
         out += figure(fig, sheet, st)
     return out
@@ -377,6 +369,14 @@ def states(sheet: SheetSet, st: Styles) -> list:
         if state.factors:
             out.append(para("Factors: " + escape(" + ".join(f"{f:g} x {cid}" for cid, f in state.factors)), st))
         out.append(para(f"Method: {escape(state.method)}.", st, "small"))
+        shown = sum(len(sheet.figures_for(part, state.id)) for part in sheet.template.state_parts if part in FIGURE_PARTS)
+        refs = []
+        if list(sheet.template.state_parts[:1]) == ["forces"]:  # then the next table is the member forces
+            refs.append(f"{st.numbering.ahead('Table')} for its member forces")
+        if shown:
+            refs.append(f"{st.numbering.ahead('Figure', shown)} for its drawings")
+        if refs:
+            out.append(para("See " + " and ".join(refs) + ".", st, "small"))
         for part in sheet.template.state_parts:
             out += PARTS[part](sheet, st, state)
     return out
@@ -402,7 +402,7 @@ def part_forces(sheet: SheetSet, st: Styles, state) -> list:
     rows = [[p.member_ids[e], f"{p.node_ids[p.ends[e, 0]]}-{p.node_ids[p.ends[e, 1]]}",
              fmt(lengths[e] / p.units.factor("length"), "length"), fmt(t[e] / f, "force"), _sense(t[e], largest)] for e in order]
     out.append(table(st, ["Member", "Nodes", f"Length [{ulabel(p.units, 'length')}]", f"Force [{_force_unit(p)}]", "Sense"], rows,
-                     numeric={2, 3}, total_width=sheet.width * 0.75))
+                     numeric={2, 3}, total_width=sheet.width * 0.75, title=f"Member forces, {state_label(state)}"))
     note = _rows_note(len(rows), p.n_members, "members", "csv/forces.csv", "largest by |force|")
     if note:
         out.append(para(note, st, "small"))
@@ -425,7 +425,7 @@ def part_reactions(sheet: SheetSet, st: Styles, state) -> list:
     rows.append(["Sum"] + [fmt(v, "force") for v in total])
     out: list = [Paragraph("Reactions", st.h2),
                  table(st, ["Node"] + [f"R{a} [{_force_unit(p)}]" for a in p.axes], rows, numeric=set(range(1, p.dim + 1)),
-                       total_width=sheet.width * 0.55)]
+                       total_width=sheet.width * 0.55, title=f"Reactions, {state_label(state)}")]
     note = _rows_note(len(order), len(supported), "supported nodes", "csv/reactions.csv", "largest")
     if note:
         out.append(para(note, st, "small"))
@@ -447,7 +447,7 @@ def part_checks(sheet: SheetSet, st: Styles, state) -> list:
     ]
     verdict = "All checks pass." if c.passed else "A CHECK FAILS: this state's results must not be used."
     return [Paragraph("Checks on the solution", st.h2),
-            table(st, ["Check", "Value", "Limit"], rows, numeric={1, 2},
+            table(st, ["Check", "Value", "Limit"], rows, numeric={1, 2}, title=f"Checks on the solution, {state_label(state)}",
                   widths=[sheet.width * 0.7, sheet.width * 0.12, sheet.width * 0.12], highlight=[] if c.passed else [0, 1, 2, 3]),
             para(f"<b>{verdict}</b> Load path theorem: Maxwell, \"On reciprocal figures, frames, and diagrams of forces\", "
                  "Trans. R. Soc. Edinburgh 26 (1870); reactions counted as loads.", st, "small")]
@@ -482,6 +482,7 @@ def part_load_path(sheet: SheetSet, st: Styles, state) -> list:
     return out
 
 
+FIGURE_PARTS = ("form_forces", "force_diagram", "cells", "minkowski", "load_path")  # the state parts that draw figures
 PARTS: dict[str, Callable] = {
     "forces": part_forces,
     "reactions": part_reactions,

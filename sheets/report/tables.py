@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from reportlab.lib import colors
 from reportlab.lib.enums import TA_LEFT
@@ -47,6 +47,28 @@ def fmt(value, kind: str) -> str:
     return "0" + text[2:] if text.startswith("-0") and float(text.replace(",", "")) == 0 else text
 
 
+class Numbering:
+    """Figure and table numbers through the whole sheet set, in reading order: the one place they are
+    counted (the sections are built once, in the order they are read)."""
+
+    def __init__(self):
+        self.counts: dict[str, int] = {}
+
+    def next(self, kind: str) -> str:
+        """'Figure 3': the number of the next figure (or 'Table'), counted."""
+        self.counts[kind] = self.counts.get(kind, 0) + 1
+        return f"{kind} {self.counts[kind]}"
+
+    def ahead(self, kind: str, count: int = 1) -> str:
+        """How text refers to the next ``count`` items of ``kind`` before they are placed: 'Figure 4',
+        'Figures 4 and 5', 'Figures 4 to 7'."""
+        first = self.counts.get(kind, 0) + 1
+        last = first + count - 1
+        if count <= 1:
+            return f"{kind} {first}"
+        return f"{kind}s {first} and {last}" if count == 2 else f"{kind}s {first} to {last}"
+
+
 @dataclass(frozen=True)
 class Styles:
     body: ParagraphStyle
@@ -60,6 +82,7 @@ class Styles:
     cover_title: ParagraphStyle
     caution: ParagraphStyle
     fonts: Fonts
+    numbering: Numbering = field(default_factory=Numbering, compare=False)
 
 
 SMALLEST = 6.0  # points: no printed text is smaller
@@ -108,32 +131,41 @@ def escape(text: str) -> str:
 
 def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[int] | None = None,
           widths: list[float] | None = None, highlight: list[int] | None = None, total_width: float | None = None,
-          repeat: bool = True) -> Table:
-    """A grid table with a shaded header repeated on every page; ``numeric`` columns right-aligned.
+          repeat: bool = True, title: str = "") -> Table:
+    """A numbered grid table ('Table N. title' above it) with a shaded header repeated on every page;
+    ``numeric`` columns right-aligned.
 
-    ``highlight`` rows (0-based, excluding the header) are shaded to flag a check above its limit.
+    ``highlight`` rows (0-based, excluding the header) are shaded to flag a check above its limit. The
+    number comes from ``styles.numbering``; text that refers to the table takes it first with
+    ``styles.numbering.ahead("Table")``.
     """
     numeric = numeric or set()
+    number = styles.numbering.next("Table")
+    caption = f"{number}." + (f" {title}" if title else "")  # plain text: fits any column widths
     head = [Paragraph(escape(h), styles.cell_head) for h in header]
     body = [[Paragraph(escape(v), styles.cell) if isinstance(v, str) and len(v) > 28 else v for v in row] for row in rows]
     if widths is None and total_width is not None:
         widths = _auto_widths(header, rows, total_width)
-    t = Table([head] + body, colWidths=widths, repeatRows=1 if repeat else 0, hAlign="LEFT")
+    t = Table([[caption] + [""] * (len(header) - 1), head] + body, colWidths=widths, repeatRows=2 if repeat else 0,
+              hAlign="LEFT")
     size = styles.cell.fontSize
     commands = [
         ("FONT", (0, 0), (-1, -1), styles.fonts.regular, size),  # the header too: no cell falls back to Helvetica
-        ("GRID", (0, 0), (-1, -1), 0.3, GRID),
-        ("BACKGROUND", (0, 0), (-1, 0), HEAD_FILL),
+        ("FONT", (0, 0), (-1, 0), styles.fonts.bold, size),
+        ("SPAN", (0, 0), (-1, 0)),  # the caption row: one cell across, no grid
+        ("GRID", (0, 1), (-1, -1), 0.3, GRID),
+        ("BACKGROUND", (0, 1), (-1, 1), HEAD_FILL),
         ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
         ("TOPPADDING", (0, 0), (-1, -1), 1.5),
         ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
         ("LEFTPADDING", (0, 0), (-1, -1), 3),
         ("RIGHTPADDING", (0, 0), (-1, -1), 3),
+        ("LEFTPADDING", (0, 0), (0, 0), 0),
     ]
     for c in sorted(numeric):
-        commands.append(("ALIGN", (c, 1), (c, -1), "RIGHT"))
+        commands.append(("ALIGN", (c, 2), (c, -1), "RIGHT"))
     for r in highlight or []:
-        commands.append(("BACKGROUND", (0, r + 1), (-1, r + 1), FAIL_FILL))
+        commands.append(("BACKGROUND", (0, r + 2), (-1, r + 2), FAIL_FILL))
     t.setStyle(TableStyle(commands))
     t.spaceAfter = styles.body.fontSize * 0.8
     return t

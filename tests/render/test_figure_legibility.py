@@ -201,3 +201,21 @@ def test_one_scale_per_figure_agrees_with_its_scale_bars(truss):
     for ax in (form_ax, force_ax):
         (x0, y0), (x1, y1) = ax.transData.transform([[0, 0], [1, 1]])
         assert abs(x1 - x0) == pytest.approx(abs(y1 - y0), rel=1e-6)
+
+
+def test_every_view_of_a_3d_frame_is_drawn_at_the_one_scale_of_its_one_bar(frame):
+    from reciprocal_frames import space_truss
+
+    project = space_truss(frame)
+    project = dataclasses.replace(project, drawing=dataclasses.replace(project.drawing, views=("plan", "front", "side")))
+    state = analyse(project).states[0]
+    fig = forces_figure(project, state.forces, state.loads, state.reactions, "L")
+    fig.canvas.draw()
+    bars = [t for ax in fig.axes for t in ax.texts if t.get_gid() == "scale-bar"]
+    assert len(bars) == 1 and bars[0].get_text().endswith("(every view)")  # one scale, stated once
+    scales = set()
+    for ax in fig.axes:
+        (x0, y0), (x1, y1) = ax.transData.transform([[0, 0], [1, 1]])
+        assert abs(x1 - x0) == pytest.approx(abs(y1 - y0), rel=1e-6)
+        scales.add(round(abs(x1 - x0), 6))
+    assert len(scales) == 1, scales  # display units per metre equal in every view

@@ -54,7 +54,7 @@ from sheets.model.project import DrawingOptions, Project, frozen_array
 from sheets.model.units import DisplayUnits
 from sheets.render.palette import ZERO_FORCE_RELATIVE
 from sheets.reciprocal.bow import frame_space_labels, member_name, space_labels, space_order
-from sheets.reciprocal.embedding import Crossing, Embedding, embed
+from sheets.reciprocal.embedding import Crossing, Embedding, EmbeddingError, embed
 from sheets.reciprocal.faces import Faces
 from sheets.reciprocal.graph import ExtendedGraph, extended_graph
 
@@ -189,15 +189,27 @@ class ForceDiagram:
         return self.points[self.space_labels.index(label)]
 
 
-def force_diagram(project: Project, state: State, drawing: DrawingOptions | None = None) -> ForceDiagram:
-    """The force diagram of ``state``, embedded as ``drawing`` (default: the project's [drawing] options)."""
+def force_diagram(project: Project, state: State, drawing: DrawingOptions | None = None,
+                  frame: tuple[Embedding, Faces] | None = None) -> ForceDiagram:
+    """The force diagram of ``state``, embedded as ``drawing`` (default: the project's [drawing] options).
+
+    ``frame``: ``frame_spaces(project, drawing)`` where the caller draws several states (built once)."""
     graph = extended_graph(project, state)
     drawing = drawing or project.drawing
     embedding, faces = embed(graph, drawing, project.vertical_axis)
-    frame = embed(extended_graph(project, frame_state(project)), drawing, project.vertical_axis)
-    labels = frame_space_labels(embedding, faces, frame, np.asarray(project.ends), project.n_members, project.node_ids)
+    try:
+        frame = frame or frame_spaces(project, drawing)
+        labels = frame_space_labels(embedding, faces, frame, np.asarray(project.ends), project.n_members, project.node_ids)
+    except EmbeddingError:  # the frame with every load point cannot be embedded: this state's own letters
+        labels = None
     return reciprocal_diagram(graph, embedding, faces, state=state, units=project.units,
                               tolerance=project.options.equilibrium_tolerance, title=project.info.title, labels=labels)
+
+
+def frame_spaces(project: Project, drawing: DrawingOptions | None = None) -> tuple[Embedding, Faces]:
+    """The embedding and spaces of the frame with a force at every load point and support: what Bow's
+    letters are given to (``bow.frame_space_labels``), the same for every state."""
+    return embed(extended_graph(project, frame_state(project)), drawing or project.drawing, project.vertical_axis)
 
 
 @dataclass(frozen=True)
@@ -239,7 +251,8 @@ def force_diagrams(analysis, state_ids=None, drawing: DrawingOptions | None = No
     """Diagrams of the states asked for: ``state_ids``, else [drawing] states, else every state."""
     project = analysis.project
     wanted = tuple(state_ids or project.drawing.states or (s.id for s in analysis.states))
-    return tuple(force_diagram(project, analysis.state(sid), drawing) for sid in wanted)
+    frame = frame_spaces(project, drawing)
+    return tuple(force_diagram(project, analysis.state(sid), drawing, frame) for sid in wanted)
 
 
 def reciprocal_diagram(graph: ExtendedGraph, embedding: Embedding, faces: Faces, *, state: State | None = None,

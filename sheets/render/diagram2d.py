@@ -653,37 +653,43 @@ def verification_chart(diagram: ForceDiagram) -> Figure:
 
     Where every error is round-off, the two bar panels (a chart of noise) become one line of text."""
     noise = round_off(diagram)
-    fig = Figure(figsize=(FIGURE_WIDTH, 3.6 if noise is not None else 5.6))
-    title = _wrap(f"Closure of the force diagram - {_subtitle(diagram)}", 95)
-    if noise is not None:
-        fig.text(0.5, 0.985, title, ha="center", va="top", fontsize=FONT + 1.5, color=palette.LABEL)
-        fig.text(0.5, 0.925, f"Largest closure error {noise:.1e} of the largest force (node polygons, load line and every "
-                 f"edge; tolerance {diagram.tolerance:g}): round-off.", ha="center", va="top", fontsize=FONT,
-                 color=palette.LABEL, gid="round-off")
-        placer = Labels()
-        _load_line(fig.add_axes((0.2, 0.14, 0.6, 0.7)), diagram, placer)
-        return _label_note(fig, placer)
-    ax_nodes = fig.add_axes((0.09, 0.56, 0.38, 0.33))
-    ax_edges = fig.add_axes((0.59, 0.56, 0.38, 0.33))
-    ax_line = fig.add_axes((0.25, 0.06, 0.5, 0.3))
-    _closure_bars(ax_nodes, diagram)
-    _edge_bars(ax_edges, diagram)
+    fig = Figure(figsize=(FIGURE_WIDTH, 5.0))
+    stack = _Stack(fig)
+    stack.skip(0.05)
+    stack.text(_wrap(f"Closure of the force diagram - {_subtitle(diagram)}", 95), FONT + 1.5)
     placer = Labels()
-    _load_line(ax_line, diagram, placer)
-    fig.text(0.5, 0.99, title, ha="center", va="top", fontsize=FONT + 1.5, color=palette.LABEL)
-    handles = [Line2D([], [], color=palette.NODE, ls="--", lw=0.8, label=f"tolerance {diagram.tolerance:g} (relative)"),
-               Line2D([], [], color=palette.TENSION, lw=4, label="within tolerance"),
-               Line2D([], [], color=palette.COMPRESSION, lw=4, label="beyond tolerance"),
-               Line2D([], [], marker="o", ls="", color=palette.LABEL, ms=3, label="angle edge-member (rad)")]
-    fig.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, 0.94), ncol=4, fontsize=FONT, frameon=False)
-    return _label_note(fig, placer)
+    if noise is not None:
+        stack.text(_wrap(f"Largest closure error {noise:.1e} of the largest force (node polygons, load line and every "
+                         f"edge; tolerance {diagram.tolerance:g}): round-off.", WRAP), FONT, gid="round-off")
+        bars = None
+    else:
+        legend_at = stack.skip(FONT * 1.6 / 72 + 0.05)
+        bars = stack.skip(2.0)
+        stack.skip(0.75 if max(diagram.graph.n_nodes, diagram.graph.n_elements) <= 40 else 0.3)  # item names under bars
+    line_at = stack.skip(2.4)
+    stack.skip(0.45)  # the closing gap, under the load line
+    note_at = stack.skip(SMALL * LINE + 0.03)
+    height = stack.finish()
 
+    def frac(y):
+        return 1 - y / height
 
-def _label_note(fig: Figure, placer: Labels) -> Figure:
-    """Place the labels and say, at the foot, how many were left out."""
+    if bars is not None:
+        ax_nodes = fig.add_axes((0.09, frac(bars + 2.0), 0.38, 1.8 / height))
+        ax_edges = fig.add_axes((0.59, frac(bars + 2.0), 0.38, 1.8 / height))
+        _closure_bars(ax_nodes, diagram)
+        _edge_bars(ax_edges, diagram)
+        handles = [Line2D([], [], color=palette.NODE, ls="--", lw=0.8, label=f"tolerance {diagram.tolerance:g} (relative)"),
+                   Line2D([], [], color=palette.TENSION, lw=4, label="within tolerance"),
+                   Line2D([], [], color=palette.COMPRESSION, lw=4, label="beyond tolerance"),
+                   Line2D([], [], marker="o", ls="", color=palette.LABEL, ms=3, label="angle edge-member (rad)")]
+        fig.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, frac(legend_at)), ncol=4, fontsize=FONT,
+                   frameon=False, borderaxespad=0.0)
+    _load_line(fig.add_axes((0.2, frac(line_at + 2.4), 0.6, 2.2 / height)), diagram, placer)
     placer.place(fig)
     if placer.dropped:
-        fig.text(0.5, 0.005, placer.note(), ha="center", va="bottom", fontsize=SMALL, color=palette.LABEL, gid="label-note")
+        fig.text(0.5, frac(note_at), placer.note(), ha="center", va="top", fontsize=SMALL, color=palette.LABEL,
+                 gid="label-note")
     return fig
 
 

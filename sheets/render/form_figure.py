@@ -167,8 +167,8 @@ def _labels(ax, project: Project, xy: np.ndarray, members: bool = True, nodes: b
                                zorder=5))
 
 
-def _supports(ax, project: Project, xy: np.ndarray, proj: np.ndarray, size: float):
-    """A triangle under each supported node; its text names the fixed axes."""
+def _supports(ax, project: Project, xy: np.ndarray, proj: np.ndarray, size: float, placer: Labels | None = None):
+    """A triangle under each supported node; its text (placed by ``placer`` where given) names the fixed axes."""
     supported = np.flatnonzero(project.fixed.any(axis=1))
     if not len(supported):
         return
@@ -177,8 +177,9 @@ def _supports(ax, project: Project, xy: np.ndarray, proj: np.ndarray, size: floa
     if len(supported) <= (60 if project.dim == 2 else 16):
         for n in supported:
             axes = "".join(a for a, f in zip(project.axes, project.fixed[n]) if f)
-            ax.annotate(axes, (xy[n, 0], xy[n, 1]), xytext=(0, -9), textcoords="offset points", fontsize=SMALL,
-                        ha="center", va="top", color=palette.LABEL)
+            text = offset_text(ax, xy[n], (0, -9), axes, fontsize=SMALL, ha="center", va="top", color=palette.LABEL)
+            if placer is not None:
+                placer.add(text)
 
 
 def _arrows(ax, points: np.ndarray, vectors: np.ndarray, colour: str, scale: float, head: float, tail_at_node: bool):
@@ -231,7 +232,7 @@ def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
         if labelled:
             ax.scatter(xy[:, 0], xy[:, 1], s=6, color=palette.NODE, zorder=3)
             _labels(ax, project, xy, placer=placer)
-        _supports(ax, project, xy, proj, 40 if labelled else 12)
+        _supports(ax, project, xy, proj, 40 if labelled else 12, placer)
         if ax is axes[0]:  # one scale for the figure: one bar, stated once
             _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"),
                        " (every view)" if len(axes) > 1 else "")
@@ -257,9 +258,10 @@ def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
     f_unit, f_factor = project.units.label("force"), project.units.factor("force")
     loaded = np.flatnonzero(np.abs(loads).max(axis=1) > 0)
     scale = largest = 0.0
+    placer = Labels()
     for ax, (_, proj), xy in zip(axes, views, xys):
         _members(ax, project, xy, palette.ZERO_FORCE, 0.7)
-        _supports(ax, project, xy, proj, 25 if project.n_members <= 300 else 10)
+        _supports(ax, project, xy, proj, 25 if project.n_members <= 300 else 10, placer)
         vecs = loads[loaded] @ proj
         scale, largest = _force_scale([loads[loaded]], _extent(xy))
         head = 0.025 * _extent(xy)
@@ -268,8 +270,8 @@ def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
         if len(loaded) <= 40:
             for n, v in zip(loaded, loads[loaded]):
                 tail = xy[n] - (v @ proj) * scale
-                ax.annotate(f"{np.linalg.norm(v) / f_factor:.3g}", tail, fontsize=SMALL, ha="center", va="bottom",
-                            xytext=(0, 2), textcoords="offset points")
+                placer.add(offset_text(ax, tail, (0, 2), f"{np.linalg.norm(v) / f_factor:.3g}", fontsize=SMALL,
+                                       ha="center", va="bottom"))
         if ax is axes[0]:  # one scale for the figure: one bar, stated once
             _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"),
                        " (every view)" if len(axes) > 1 else "")
@@ -278,7 +280,7 @@ def loads_figure(project: Project, loads: np.ndarray, title: str) -> Figure:
     if project.dim == 3:
         handles.append(Line2D([], [], marker="o", ls="", mfc="none", mec=palette.LOAD,
                               label="load along the view direction (ring area proportional to |load|)"))
-    return _finish(fig, axes, _legend(fig, handles, title, 2))
+    return _placed(_finish(fig, axes, _legend(fig, handles, title, 2)), placer)
 
 
 def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, reactions: np.ndarray, title: str,

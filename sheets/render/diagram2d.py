@@ -147,8 +147,9 @@ def _roles_present(diagram: ForceDiagram) -> list[str]:
     return [r for r in ROLE_STYLE if r in present]
 
 
-def role_handles(diagram: ForceDiagram) -> list[Line2D]:
-    """Legend entries for every role in the diagram, crossings and the width scale."""
+def role_handles(diagram: ForceDiagram, line_styles: bool = True) -> list[Line2D]:
+    """Legend entries for every role in the diagram, crossings and the width scale; ``line_styles=False``
+    for drawings whose lines are all solid (the 3D tube renders)."""
     largest = diagram.force_scale
     units = diagram.units
     handles = []
@@ -161,7 +162,10 @@ def role_handles(diagram: ForceDiagram) -> list[Line2D]:
     for role in [r for r in ROLE_STYLE if r in present]:
         colour, dashes = ROLE_STYLE[role]
         width = palette.line_width(0 if role == "zero" else largest / 2, largest)
-        handles.append(Line2D([], [], color=colour, lw=width, ls=dashes, label=ROLE_LEGEND.get(role, ROLE_NAME[role])))
+        if line_styles:
+            handles.append(Line2D([], [], color=colour, lw=width, ls=dashes, label=ROLE_LEGEND.get(role, ROLE_NAME[role])))
+        else:
+            handles.append(Line2D([], [], color=colour, lw=width, label=ROLE_NAME[role]))
     handles.append(Line2D([], [], color=palette.LABEL, lw=palette.line_width(largest, largest),
                           label=f"width {palette.line_width(largest, largest):.1f} pt = "
                                 f"{units.to_display(largest, 'force'):.4g} {units.label('force')}"))

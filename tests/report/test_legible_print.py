@@ -34,7 +34,7 @@ from sheets.report import vector
 ROOT = Path(__file__).resolve().parents[2]
 DEMOS = ROOT / "demo_projects"
 SMALLEST = 6.0  # points (the rule; common practice for printed drawings is 6 pt at least)
-FAST_DEMOS = ["warehouse_roof", "market_canopy", "tensegrity_pavilion", "gallery_node"]
+EVERY_DEMO = ["warehouse_roof", "market_canopy", "tensegrity_pavilion", "gallery_node", "atrium_grid"]
 
 
 # Run in a fresh interpreter: the build draws figures in forked workers, and a process that has already
@@ -65,7 +65,7 @@ def _build(project: Path, out: Path):
     return report["pdf"], chars, report["printed"]
 
 
-@pytest.fixture(scope="module", params=FAST_DEMOS)
+@pytest.fixture(scope="module", params=EVERY_DEMO)
 def demo_build(request, tmp_path_factory):
     folder = DEMOS / request.param
     project = next(folder.glob("*.toml"))

@@ -10,6 +10,14 @@ external forces, going clockwise around the frame and starting with the space
 that contains the direction due left (so a roof truss loaded on top gets A at
 the left, then B, C, ... between the loads from left to right); then the inner
 spaces from left to right (ties: top to bottom), by the mean of their corners.
+
+The letters belong to the frame, not to a load case: they are given once to
+the spaces of the frame with an external force at every node that is loaded
+in any case or supported (``frame_spaces``), and each space of a state takes
+the letter of the frame space its members border (the first in that order
+where a state joins several, as where a load point carries nothing in that
+state). The same space so keeps its letter on every sheet. No letter equals a
+node id (in either case), so 'B' never names both a node and a space.
 """
 
 from __future__ import annotations
@@ -18,6 +26,18 @@ import numpy as np
 
 from sheets.reciprocal.embedding import Embedding
 from sheets.reciprocal.faces import Faces, half_edge_tails
+
+
+def letter_sequence(count: int, avoid=()) -> list[str]:
+    """The first ``count`` letters A, B, ..., Z, AA, ... that equal no string in ``avoid`` (ignoring case)."""
+    taken = {str(a).upper() for a in avoid}
+    out, index = [], 0
+    while len(out) < count:
+        candidate = letters(index)
+        index += 1
+        if candidate not in taken:
+            out.append(candidate)
+    return out
 
 
 def letters(index: int) -> str:
@@ -50,12 +70,59 @@ def space_order(embedding: Embedding, faces: Faces) -> np.ndarray:
     return np.concatenate([outer, inner]).astype(np.int64)
 
 
-def space_labels(embedding: Embedding, faces: Faces) -> tuple[str, ...]:
-    """Bow's-notation letter of each face, indexed by face."""
+def space_labels(embedding: Embedding, faces: Faces, avoid=()) -> tuple[str, ...]:
+    """Bow's-notation letter of each face, indexed by face, in this embedding's own order."""
     labels = [""] * faces.count
+    names = letter_sequence(faces.count, avoid)
     for rank, face in enumerate(space_order(embedding, faces)):
-        labels[face] = letters(rank)
+        labels[face] = names[rank]
     return tuple(labels)
+
+
+def _piece_params(embedding: Embedding, element_ends: np.ndarray, members: np.ndarray, at: float) -> np.ndarray:
+    """Position along its member (0 at the tail node, 1 at the head) of each member piece's point ``at``
+    (0 its start, 0.5 its middle, 1 its end), in the drawing plane."""
+    pts = embedding.points
+    e = embedding.element[members]
+    a, b = pts[element_ends[e, 0]], pts[element_ends[e, 1]]
+    p = (1 - at) * pts[embedding.tails[members]] + at * pts[embedding.heads[members]]
+    d = b - a
+    return np.einsum("ij,ij->i", p - a, d) / np.maximum(np.einsum("ij,ij->i", d, d), 1e-300)
+
+
+def frame_space_labels(embedding: Embedding, faces: Faces, frame: tuple[Embedding, Faces], element_ends: np.ndarray,
+                       n_members: int, avoid=()) -> tuple[str, ...]:
+    """Letters of a state's spaces taken from the frame's spaces (see the module docstring).
+
+    ``frame``: the embedding and faces of the frame with an external force at every load point and support;
+    ``element_ends``: (m, 2) node indices of each member. A space with no member of its own, or a second
+    piece of a frame space cut by a force's ray, gets a letter after the frame's."""
+    frame_emb, frame_faces = frame
+    rank = np.empty(frame_faces.count, dtype=np.int64)
+    rank[space_order(frame_emb, frame_faces)] = np.arange(frame_faces.count)
+    ours = np.flatnonzero(embedding.element < n_members)
+    theirs = np.flatnonzero(frame_emb.element < n_members)
+    theirs = theirs[np.lexsort((frame_emb.segment[theirs], frame_emb.element[theirs]))]
+    ends = frame_emb.element[theirs] + np.clip(_piece_params(frame_emb, element_ends, theirs, 1.0), 0, 1)
+    mids = embedding.element[ours] + np.clip(_piece_params(embedding, element_ends, ours, 0.5), 0, 1)
+    match = theirs[np.minimum(np.searchsorted(ends, mids), len(theirs) - 1)]
+    best = np.full(faces.count, np.iinfo(np.int64).max)
+    np.minimum.at(best, faces.left[ours], rank[frame_faces.left[match]])
+    np.minimum.at(best, faces.right[ours], rank[frame_faces.right[match]])
+    own = np.empty(faces.count, dtype=np.int64)
+    own[space_order(embedding, faces)] = np.arange(faces.count)
+    extra = frame_faces.count
+    used: set[int] = set()
+    final = np.empty(faces.count, dtype=np.int64)
+    for f in np.lexsort((own, best)).tolist():  # frame order, then the state's own order for ties
+        if best[f] < frame_faces.count and int(best[f]) not in used:
+            final[f] = best[f]
+            used.add(int(best[f]))
+        else:
+            final[f] = extra
+            extra += 1
+    names = letter_sequence(extra, avoid)
+    return tuple(names[r] for r in final.tolist())
 
 
 def member_name(left: str, right: str) -> str:

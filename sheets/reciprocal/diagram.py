@@ -53,8 +53,8 @@ from sheets.analysis.states import State
 from sheets.model.project import DrawingOptions, Project, frozen_array
 from sheets.model.units import DisplayUnits
 from sheets.render.palette import ZERO_FORCE_RELATIVE
-from sheets.reciprocal.bow import member_name, space_labels, space_order
-from sheets.reciprocal.embedding import Crossing, Embedding, embed
+from sheets.reciprocal.bow import frame_space_labels, member_name, space_labels, space_order
+from sheets.reciprocal.embedding import Crossing, Embedding, EmbeddingError, embed
 from sheets.reciprocal.faces import Faces
 from sheets.reciprocal.graph import ExtendedGraph, extended_graph
 
@@ -189,24 +189,78 @@ class ForceDiagram:
         return self.points[self.space_labels.index(label)]
 
 
-def force_diagram(project: Project, state: State, drawing: DrawingOptions | None = None) -> ForceDiagram:
-    """The force diagram of ``state``, embedded as ``drawing`` (default: the project's [drawing] options)."""
+def force_diagram(project: Project, state: State, drawing: DrawingOptions | None = None,
+                  frame: tuple[Embedding, Faces] | None = None) -> ForceDiagram:
+    """The force diagram of ``state``, embedded as ``drawing`` (default: the project's [drawing] options).
+
+    ``frame``: ``frame_spaces(project, drawing)`` where the caller draws several states (built once)."""
     graph = extended_graph(project, state)
-    embedding, faces = embed(graph, drawing or project.drawing, project.vertical_axis)
+    drawing = drawing or project.drawing
+    embedding, faces = embed(graph, drawing, project.vertical_axis)
+    try:
+        frame = frame or frame_spaces(project, drawing)
+        labels = frame_space_labels(embedding, faces, frame, np.asarray(project.ends), project.n_members, project.node_ids)
+    except EmbeddingError:  # the frame with every load point cannot be embedded: this state's own letters
+        labels = None
     return reciprocal_diagram(graph, embedding, faces, state=state, units=project.units,
-                              tolerance=project.options.equilibrium_tolerance, title=project.info.title)
+                              tolerance=project.options.equilibrium_tolerance, title=project.info.title, labels=labels)
+
+
+def frame_spaces(project: Project, drawing: DrawingOptions | None = None) -> tuple[Embedding, Faces]:
+    """The embedding and spaces of the frame with a force at every load point and support: what Bow's
+    letters are given to (``bow.frame_space_labels``), the same for every state."""
+    return embed(extended_graph(project, frame_state(project)), drawing or project.drawing, project.vertical_axis)
+
+
+@dataclass(frozen=True)
+class _FrameState:
+    """Stand-in state for Bow's letters: an external force at every load point and support, no member force."""
+
+    forces: np.ndarray
+    loads: np.ndarray
+    reactions: np.ndarray
+
+    @property
+    def external(self) -> np.ndarray:
+        return self.loads + self.reactions
+
+
+def frame_state(project: Project) -> _FrameState:
+    """Every node loaded in some case (self-weight: every node a member reaches) pushed along its loads'
+    mean direction, and every support pushing back against the frame's total load (or up): the spaces
+    of this state are the frame's spaces, whatever a single case loads."""
+    n, dim = project.n_nodes, project.dim
+    up = np.eye(dim)[project.vertical_axis]
+    loads = np.zeros((n, dim))
+    for case in project.cases:
+        given = np.asarray(case.loads, dtype=float)
+        size = float(np.abs(given).max(initial=0.0))
+        if size > 0:
+            loads += given / size
+        if case.self_weight:
+            reached = np.zeros(n, dtype=bool)
+            reached[np.asarray(project.ends).reshape(-1)] = True
+            loads[reached] -= up
+    total = loads.sum(axis=0)
+    back = -total / np.linalg.norm(total) if np.linalg.norm(total) > 0 else up
+    reactions = np.where(np.asarray(project.fixed).any(axis=1)[:, None], back[None, :], 0.0)
+    return _FrameState(forces=np.zeros(project.n_members), loads=loads, reactions=reactions)
 
 
 def force_diagrams(analysis, state_ids=None, drawing: DrawingOptions | None = None) -> tuple[ForceDiagram, ...]:
     """Diagrams of the states asked for: ``state_ids``, else [drawing] states, else every state."""
     project = analysis.project
     wanted = tuple(state_ids or project.drawing.states or (s.id for s in analysis.states))
-    return tuple(force_diagram(project, analysis.state(sid), drawing) for sid in wanted)
+    frame = frame_spaces(project, drawing)
+    return tuple(force_diagram(project, analysis.state(sid), drawing, frame) for sid in wanted)
 
 
 def reciprocal_diagram(graph: ExtendedGraph, embedding: Embedding, faces: Faces, *, state: State | None = None,
-                       units: DisplayUnits | None = None, tolerance: float = 1e-9, title: str = "") -> ForceDiagram:
-    """Integrate the force-diagram positions over the dual of an embedding and measure the closure."""
+                       units: DisplayUnits | None = None, tolerance: float = 1e-9, title: str = "",
+                       labels: tuple[str, ...] | None = None) -> ForceDiagram:
+    """Integrate the force-diagram positions over the dual of an embedding and measure the closure.
+
+    ``labels``: Bow's letters of the spaces (default: this embedding's own order, avoiding node ids)."""
     w = graph.vectors[embedding.element]
     scale_force = graph.force_scale or 1.0
     order = space_order(embedding, faces)
@@ -223,7 +277,7 @@ def reciprocal_diagram(graph: ExtendedGraph, embedding: Embedding, faces: Faces,
         embedding=embedding,
         faces=faces,
         points=frozen_array(points),
-        space_labels=space_labels(embedding, faces),
+        space_labels=labels or space_labels(embedding, faces, graph.node_ids),
         drawn=frozen_array(drawn),
         edge_error=frozen_array(edge_error),
         vertex_error=frozen_array(vertex_error),

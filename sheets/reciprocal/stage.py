@@ -16,7 +16,7 @@ from typing import Any, Iterable
 
 from sheets.analysis import Analysis
 from sheets.reciprocal.cells import NodeCells, node_cells
-from sheets.reciprocal.diagram import ForceDiagram, force_diagram
+from sheets.reciprocal.diagram import ForceDiagram, force_diagram, frame_spaces
 from sheets.reciprocal.minkowski_sum import MinkowskiView, minkowski_view
 from sheets.reciprocal.polarity import CellComplex, ProjectPolarity, project_complex, project_polarity
 
@@ -44,13 +44,14 @@ def _attempt(what: str, build, problems: list[str]):
 
 
 def state_diagrams(analysis: Analysis, state_id: str, complex_: CellComplex | None = None,
-                   force: ForceDiagram | None = None) -> StateDiagrams:
-    """``force``: the state's force diagram where the caller has already built it."""
+                   force: ForceDiagram | None = None, frame=None) -> StateDiagrams:
+    """``force``: the state's force diagram where the caller has already built it; ``frame``: the
+    frame's spaces for Bow's letters (``diagram.frame_spaces``), built once for all states."""
     project = analysis.project
     state = analysis.state(state_id)
     problems: list[str] = []
     if force is None:
-        force = _attempt("force diagram", lambda: force_diagram(project, state), problems)
+        force = _attempt("force diagram", lambda: force_diagram(project, state, frame=frame), problems)
     cells = _attempt("force cells", lambda: node_cells(analysis, state_id), problems)
     polar = None
     if project.dim == 3 and (project.polyhedral.cells or project.polyhedral.find_tetrahedra):
@@ -85,10 +86,14 @@ def project_diagrams(analysis: Analysis, state_ids: Iterable[str], progress=None
             complex_ = project_complex(project)
         except Exception:  # reported per state by project_polarity, which tries again
             complex_ = None
+    try:
+        frame = frame_spaces(project)
+    except Exception:  # each state's force diagram tries again and reports what fails
+        frame = None
     out = {}
     for sid in state_ids:
         note(f"diagrams: {sid}")
-        out[sid] = state_diagrams(analysis, sid, complex_)
+        out[sid] = state_diagrams(analysis, sid, complex_, frame=frame)
     return out
 
 

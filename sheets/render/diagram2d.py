@@ -55,9 +55,14 @@ from sheets.reciprocal.diagram import ForceDiagram, force_diagram
 from sheets.reciprocal.embedding import IN_PLANE
 from sheets.reciprocal.projection import plane_name
 from sheets.render import palette
+from sheets.render.labels import Labels, offset_text
 from sheets.render.triad import draw_triad
 
 FONT = 6.5
+SMALL = 6.0  # the smallest text drawn: figures are sized to print at 1:1 or larger (see FIGURE_WIDTH)
+FIGURE_WIDTH = 7.0  # inches: the narrowest template's body (A4 or letter portrait) takes it without shrinking
+WRAP = 125  # characters per line of SMALL text across FIGURE_WIDTH
+ROUND_OFF = 1e-9  # closure errors all below this x the largest force are round-off: said in one line, not charted
 SPACES_UP_TO = 80  # spaces beyond which Bow's-notation letters are left out
 CROSSING_LIST = 10  # crossings listed by name under the figure
 
@@ -70,11 +75,11 @@ METADATA = {
 }
 ROLE_STYLE = {  # colour, dashes
     "tension": (palette.TENSION, "solid"),
-    "compression": (palette.COMPRESSION, "solid"),
+    "compression": (palette.COMPRESSION, palette.COMPRESSION_STYLE),
     "zero": (palette.ZERO_FORCE, "solid"),
     "load": (palette.LOAD, "solid"),
     "reaction": (palette.REACTION, "solid"),
-    "load+reaction": (palette.REACTION, (0, (4, 1.5))),
+    "load+reaction": (palette.REACTION, (0, (5, 1.5, 1, 1.5))),  # dash-dot: apart from compression's dashes
 }
 ROLE_NAME = {
     "tension": "tension",
@@ -84,6 +89,8 @@ ROLE_NAME = {
     "reaction": "reaction",
     "load+reaction": "load + reaction at a support (their resultant)",
 }
+ROLE_LEGEND = {"tension": "tension (+, solid)", "compression": f"compression ({palette.MINUS}, dashed)",
+               "load+reaction": "load + reaction at a support (their resultant, dash-dot)"}
 
 
 # -- saving ------------------------------------------------------------------
@@ -117,8 +124,8 @@ def _round_length(extent: float) -> float:
     return step
 
 
-def scale_bar(ax, points: np.ndarray, unit: str, factor: float, note: str = "") -> None:
-    """A bar of a round length (display unit ``unit`` = ``factor`` SI units) under ``points``."""
+def scale_bar(ax, points: np.ndarray, unit: str, factor: float, note: str = "") -> float:
+    """A bar of a round length (display unit ``unit`` = ``factor`` SI units) under ``points``; returns that length."""
     points = np.asarray(points, dtype=float).reshape(-1, 2)
     extent = float(np.ptp(points, axis=0).max()) if len(points) > 1 else 0.0
     extent = extent or 1.0
@@ -133,8 +140,10 @@ def scale_bar(ax, points: np.ndarray, unit: str, factor: float, note: str = "") 
     ax.plot([x0, x0 + size], [y0, y0], color=palette.LABEL, lw=1.2, solid_capstyle="butt")
     for x in (x0, x0 + size):
         ax.plot([x, x], [y0 - tick, y0 + tick], color=palette.LABEL, lw=0.8)
-    ax.text(x0 + size / 2, y0 - 2 * tick, f"{length:g} {unit}{note}", ha="center", va="top", fontsize=FONT)
+    ax.text(x0 + size / 2, y0 - 2 * tick, f"{length:g} {unit}{note}", ha="center", va="top", fontsize=FONT,
+            gid="scale-bar")
     ax.update_datalim([[x0, y0 - 0.06 * extent]])
+    return length
 
 
 def _roles_present(diagram: ForceDiagram) -> list[str]:
@@ -142,8 +151,9 @@ def _roles_present(diagram: ForceDiagram) -> list[str]:
     return [r for r in ROLE_STYLE if r in present]
 
 
-def role_handles(diagram: ForceDiagram) -> list[Line2D]:
-    """Legend entries for every role in the diagram, crossings and the width scale."""
+def role_handles(diagram: ForceDiagram, line_styles: bool = True) -> list[Line2D]:
+    """Legend entries for every role in the diagram, crossings and the width scale; ``line_styles=False``
+    for drawings whose lines are all solid (the 3D tube renders)."""
     largest = diagram.force_scale
     units = diagram.units
     handles = []
@@ -156,7 +166,10 @@ def role_handles(diagram: ForceDiagram) -> list[Line2D]:
     for role in [r for r in ROLE_STYLE if r in present]:
         colour, dashes = ROLE_STYLE[role]
         width = palette.line_width(0 if role == "zero" else largest / 2, largest)
-        handles.append(Line2D([], [], color=colour, lw=width, ls=dashes, label=ROLE_NAME[role]))
+        if line_styles:
+            handles.append(Line2D([], [], color=colour, lw=width, ls=dashes, label=ROLE_LEGEND.get(role, ROLE_NAME[role])))
+        else:
+            handles.append(Line2D([], [], color=colour, lw=width, label=ROLE_NAME[role]))
     handles.append(Line2D([], [], color=palette.LABEL, lw=palette.line_width(largest, largest),
                           label=f"width {palette.line_width(largest, largest):.1f} pt = "
                                 f"{units.to_display(largest, 'force'):.4g} {units.label('force')}"))
@@ -205,11 +218,21 @@ def _projection_title(diagram: ForceDiagram) -> str:
     return f"{plane_name(projection.requested)}{tilt}"
 
 
-def _text(ax, x, y, text, **kw):
-    style = dict(fontsize=FONT - 0.5, color=palette.LABEL, ha="center", va="center", zorder=7,
+def _text(ax, x, y, text, placer: Labels | None = None, **kw):
+    style = dict(fontsize=SMALL, color=palette.LABEL, ha="center", va="center", zorder=7,
                  bbox=dict(boxstyle="round,pad=0.1", fc="white", ec="none", alpha=0.8))
     style.update(kw)
-    ax.text(x, y, text, **style)
+    artist = ax.text(x, y, text, **style)
+    if placer is not None:
+        placer.add(artist)
+    return artist
+
+
+def _member_label(diagram: ForceDiagram, e: int) -> str:
+    """Member id and its force with the sign written out (tension +): the sense survives a greyscale print."""
+    units = diagram.units
+    force = units.to_display(diagram.graph.forces[e], "force")
+    return f"{diagram.graph.element_ids[e]} {palette.signed(force, largest=units.to_display(diagram.force_scale, 'force'))}"
 
 
 SEGMENTS_ONE_BY_ONE = 2000  # above this many lines, lines of one colour, style and width are drawn as one path
@@ -304,8 +327,10 @@ def _markers(ax, xy: np.ndarray, marker: str, size: float, colour=None, facecolo
 # -- form ----------------------------------------------------------------------
 
 
-def draw_form(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
-    """The form diagram of ``diagram`` in its drawing plane (see the module docstring)."""
+def draw_form(ax, diagram: ForceDiagram, labels: bool | None = None, placer: Labels | None = None) -> float:
+    """The form diagram of ``diagram`` in its drawing plane (see the module docstring); returns the scale
+    bar's length (display units). Labels go to ``placer`` (most important first: spaces, then members by
+    |force|) where one is given, for ``Labels.place`` once the figure is laid out."""
     graph, emb = diagram.graph, diagram.embedding
     m = graph.n_members
     pts = emb.points
@@ -317,29 +342,32 @@ def draw_form(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
     roles = diagram.element_roles
     segs = np.stack([pts[graph.tails[:m]], pts[graph.heads[:m]]], axis=1)[order]
     colours = [ROLE_STYLE[roles[e]][0] for e in order]
+    styles = [ROLE_STYLE[roles[e]][1] for e in order]
     widths = [palette.line_width(graph.forces[e], largest) for e in order]
-    _add_lines(ax, segs, colours, widths)
+    _add_lines(ax, segs, colours, widths, styles)
     _markers(ax, pts[: graph.n_nodes], "o", 5 if show else 1, colour=palette.NODE, zorder=3)
-    _external_arrows(ax, diagram, extent, show)
-    _crossing_marks(ax, diagram, show)
+    if show and diagram.faces.count <= SPACES_UP_TO:
+        anchors = space_anchors(diagram)
+        for f, label in enumerate(diagram.space_labels):
+            if np.all(np.isfinite(anchors[f])):
+                artist = ax.text(*anchors[f], label, fontsize=FONT + 1.5, fontweight="bold", color=palette.LABEL,
+                                 ha="center", va="center", zorder=6)
+                if placer is not None:
+                    placer.add(artist)
+    _external_arrows(ax, diagram, extent, show, placer)
+    _crossing_marks(ax, diagram, show, placer)
     if show:
         mids = segs.mean(axis=1)
-        for e, (x, y) in zip(order, mids):
-            _text(ax, x, y, graph.element_ids[e])
-        if diagram.faces.count <= SPACES_UP_TO:
-            anchors = space_anchors(diagram)
-            for f, label in enumerate(diagram.space_labels):
-                if np.all(np.isfinite(anchors[f])):
-                    ax.text(*anchors[f], label, fontsize=FONT + 1.5, fontweight="bold", color=palette.LABEL,
-                            ha="center", va="center", zorder=6)
+        for e, (x, y) in zip(order[::-1], mids[::-1]):  # strongest first: the first kept where labels crowd
+            _text(ax, x, y, _member_label(diagram, int(e)), placer)
     ax.set_aspect("equal", adjustable="datalim")
     ax.set_axis_off()
     units = diagram.units
     note = " (true length in the view plane)" if diagram.dim == 3 else ""
-    scale_bar(ax, pts[: graph.n_nodes], units.label("length"), units.factor("length"), note)
+    return scale_bar(ax, pts[: graph.n_nodes], units.label("length"), units.factor("length"), note)
 
 
-def _external_arrows(ax, diagram: ForceDiagram, extent: float, show: bool) -> None:
+def _external_arrows(ax, diagram: ForceDiagram, extent: float, show: bool, placer: Labels | None = None) -> None:
     """Loads and reactions at their nodes, gathered into a few artists (one per colour and kind), so a
     frame with thousands of loaded nodes costs no more artists than one with a few."""
     graph, emb = diagram.graph, diagram.embedding
@@ -374,8 +402,10 @@ def _external_arrows(ax, diagram: ForceDiagram, extent: float, show: bool) -> No
                 arrows.append((tail, head, palette.line_width(size, diagram.force_scale) * 0.7, colour, "solid"))
                 label_at = tail if sides[r] < 0 else head
             if show:
-                ax.annotate(f"{tag}@{graph.node_ids[node]}", label_at, xytext=(0, 3), textcoords="offset points",
-                            fontsize=FONT - 1, color=colour, ha="center", va="bottom", zorder=7)
+                text = offset_text(ax, label_at, (0, 3), f"{tag}@{graph.node_ids[node]}", fontsize=SMALL, color=colour,
+                                   ha="center", va="bottom", zorder=7)
+                if placer is not None:
+                    placer.add(text)
     if routes:
         ax.add_collection(LineCollection(routes, colors=palette.CROSSING, linewidths=0.6, linestyles=[(0, (2, 2))],
                                          zorder=1))
@@ -413,7 +443,7 @@ def _draw_arrows(ax, arrows: list, extent: float, mutation_scale: float = 7, zor
     ax.add_collection(PolyCollection(triangles, facecolors=colours, edgecolors="none", zorder=zorder))
 
 
-def _crossing_marks(ax, diagram: ForceDiagram, show: bool) -> None:
+def _crossing_marks(ax, diagram: ForceDiagram, show: bool, placer: Labels | None = None) -> None:
     new = [c for c in diagram.crossings if not c.node]
     through = [c for c in diagram.crossings if c.node]
     if new:
@@ -424,15 +454,18 @@ def _crossing_marks(ax, diagram: ForceDiagram, show: bool) -> None:
         _markers(ax, xy, "o", 60, facecolor="none", edgecolor=palette.CROSSING, lw=0.9, zorder=4)
     if show and len(diagram.crossings) <= 3 * CROSSING_LIST:
         for c in diagram.crossings:
-            ax.annotate(c.label, c.point, xytext=(3, -3), textcoords="offset points", fontsize=FONT - 1,
-                        color=palette.CROSSING, ha="left", va="top", zorder=7)
+            text = offset_text(ax, c.point, (3, -3), c.label, fontsize=SMALL, color=palette.CROSSING, ha="left", va="top",
+                               zorder=7)
+            if placer is not None:
+                placer.add(text)
 
 
 # -- force ---------------------------------------------------------------------
 
 
-def draw_force(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
-    """The force diagram of ``diagram`` (projected like the form for a 3D frame)."""
+def draw_force(ax, diagram: ForceDiagram, labels: bool | None = None, placer: Labels | None = None) -> float:
+    """The force diagram of ``diagram`` (projected like the form for a 3D frame); returns the scale bar's
+    length (display force units). Labels go to ``placer`` as in ``draw_form``."""
     pts = _drawing_points(diagram, diagram.points)
     left, right = diagram.faces.left, diagram.faces.right
     forces = diagram.edge_forces
@@ -448,6 +481,8 @@ def draw_force(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
     extent = float(np.ptp(pts, axis=0).max()) if len(pts) > 1 else 0.0
     extent = extent or 1.0
     if _show_labels(diagram, labels):
+        if diagram.faces.count <= SPACES_UP_TO:
+            _point_labels(ax, diagram, pts, extent, placer)
         shown = set()
         for k in order[::-1]:  # strongest first, one label per element and position
             a, b = pts[left[k]], pts[right[k]]
@@ -459,17 +494,15 @@ def draw_force(ax, diagram: ForceDiagram, labels: bool | None = None) -> None:
             shown.add(key)
             element = int(diagram.edge_element[k])
             tag = _edge_tag(diagram, element)
-            _text(ax, *((a + b) / 2), f"{tag} {_true_force(diagram, element)}" if diagram.dim == 3 else tag)
-        if diagram.faces.count <= SPACES_UP_TO:
-            _point_labels(ax, diagram, pts, extent)
+            _text(ax, *((a + b) / 2), f"{tag} {_true_force(diagram, element)}" if diagram.dim == 3 else tag, placer)
     ax.set_aspect("equal", adjustable="datalim")
     ax.set_axis_off()
     units = diagram.units
-    scale_bar(ax, pts, units.label("force"), units.factor("force"),
-              " (projected lengths)" if diagram.dim == 3 else "")
+    return scale_bar(ax, pts, units.label("force"), units.factor("force"),
+                     " (projected lengths)" if diagram.dim == 3 else "")
 
 
-def _point_labels(ax, diagram: ForceDiagram, pts: np.ndarray, extent: float) -> None:
+def _point_labels(ax, diagram: ForceDiagram, pts: np.ndarray, extent: float, placer: Labels | None = None) -> None:
     """Lower-case space letters at the force-diagram points; coincident points share one label 'c=d'."""
     key = np.round(pts / (1e-6 * extent)).astype(np.int64)
     groups: dict[tuple, list[str]] = {}
@@ -480,8 +513,10 @@ def _point_labels(ax, diagram: ForceDiagram, pts: np.ndarray, extent: float) -> 
         where[k] = pts[f]
     for k, names in groups.items():
         names.sort(key=lambda s: (len(s), s))
-        ax.annotate("=".join(names), where[k], xytext=(3, 3), textcoords="offset points", fontsize=FONT + 0.5,
-                    fontstyle="italic", color=palette.NODE, zorder=8)
+        text = offset_text(ax, where[k], (3, 3), "=".join(names), fontsize=FONT + 0.5, fontstyle="italic",
+                           color=palette.NODE, zorder=8)
+        if placer is not None:
+            placer.add(text)
 
 
 # -- figures -------------------------------------------------------------------
@@ -491,7 +526,7 @@ def _subtitle(diagram: ForceDiagram) -> str:
     return f"{diagram.title} - {diagram.state_kind} {diagram.state_id}: {diagram.state_title}".strip(" -")
 
 
-def _wrap(text: str, width: int = 150) -> str:
+def _wrap(text: str, width: int = WRAP) -> str:
     import textwrap
 
     return "\n".join(textwrap.wrap(text, width))
@@ -513,65 +548,192 @@ def _plain_id(element_id: str) -> str:
     return element_id.replace("external:", "external force at ")
 
 
-def form_force_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None, labels: bool | None = None,
-                      labels_up_to: int | None = None) -> Path:
-    """Form and force diagram side by side with matching labels, legend and scales; returns the path written.
+LINE = 1.25 / 72  # inches of one line of text per point of font size
+
+
+def _lines(text: str) -> int:
+    return text.count("\n") + 1 if text else 0
+
+
+class _Stack:
+    """Figure bands laid out from the top in inches, placed once the figure's height is known."""
+
+    def __init__(self, fig: Figure):
+        self.fig, self.y, self.items = fig, 0.0, []
+
+    def text(self, text: str, size: float, **style) -> None:
+        if text:
+            self.items.append((self.y, text, size, style))
+            self.y += _lines(text) * size * LINE + 0.03
+
+    def skip(self, inches: float) -> float:
+        top = self.y
+        self.y += inches
+        return top
+
+    def finish(self, bottom: float = 0.05) -> float:
+        height = self.y + bottom
+        self.fig.set_size_inches(FIGURE_WIDTH, height)
+        for y, text, size, style in self.items:
+            self.fig.text(0.5, 1 - y / height, text, ha="center", va="top", fontsize=size, color=palette.LABEL, **style)
+        return height
+
+
+PANEL_WIDTH = 0.47 * FIGURE_WIDTH  # inches: each of the two panels
+PANEL_HEIGHT = (1.2, 3.6)  # inches: the panels' height follows the drawings' aspect within these
+
+
+def _panel_height(ax_form, ax_force, force_per_metre: float) -> float:
+    """The panels' height at which the wider-drawn of the two fills its width at the common scale."""
+    spans = [(ax.dataLim, per) for ax, per in ((ax_form, 1.0), (ax_force, force_per_metre))]
+    widest = max(max(lim.width / per, 1e-300) for lim, per in spans)
+    tallest = max(lim.height / per for lim, per in spans)
+    return float(np.clip(PANEL_WIDTH * tallest / widest / 0.9, *PANEL_HEIGHT))
+
+
+def _one_scale(ax_form, ax_force, force_per_metre: float) -> None:
+    """Limits that draw the force diagram at ``force_per_metre`` of the form's metres on the page: one scale
+    for the figure, so the force bar and the stated scale agree (equal aspect in each panel)."""
+    box = ax_form.get_position()
+    width_in, height_in = box.width * ax_form.figure.get_figwidth(), box.height * ax_form.figure.get_figheight()
+    spans = [(ax.dataLim, per) for ax, per in ((ax_form, 1.0), (ax_force, force_per_metre))]
+    inch_per_metre = min(min(width_in / max(lim.width / per, 1e-300), height_in / max(lim.height / per, 1e-300))
+                         for lim, per in spans) * 0.92
+    for ax, (lim, per) in zip((ax_form, ax_force), spans):
+        half_w, half_h = width_in * per / inch_per_metre / 2, height_in * per / inch_per_metre / 2
+        cx, cy = (lim.x0 + lim.x1) / 2, (lim.y0 + lim.y1) / 2
+        ax.set_aspect("auto")
+        ax.set_xlim(cx - half_w, cx + half_w)
+        ax.set_ylim(cy - half_h, cy + half_h)
+
+
+def form_force_chart(diagram: ForceDiagram, labels: bool | None = None, labels_up_to: int | None = None) -> Figure:
+    """Form and force diagram side by side at one scale, matching labels, legend and scale bars.
     ``labels``: force them on or off; else they are drawn up to ``labels_up_to`` members (None: always)."""
     labels = _show_labels(diagram, labels, labels_up_to)
-    fig = Figure(figsize=(11.0, 6.2))
-    ax_form = fig.add_axes((0.01, 0.2, 0.48, 0.64))
-    ax_force = fig.add_axes((0.51, 0.2, 0.48, 0.64))
-    draw_form(ax_form, diagram, labels)
-    draw_force(ax_force, diagram, labels)
+    fig = Figure(figsize=(FIGURE_WIDTH, 5.0))
     units = diagram.units
-    plane = _projection_title(diagram)
-    ax_form.set_title("Form diagram" + (f", {plane}" if plane else ""), fontsize=FONT + 2)
-    ax_force.set_title("Force diagram" + (f", {plane}\nedges foreshortened: labels give the true force "
-                                          f"({units.label('force')})" if plane else ""), fontsize=FONT + 2)
-    if plane:
-        for ax in (ax_form, ax_force):
-            draw_triad(ax, diagram.embedding.projection.basis)
-    fig.suptitle(_subtitle(diagram), fontsize=FONT + 3, y=0.985)
-    labelled = _show_labels(diagram, labels)
-    fig.text(0.5, 0.94, _wrap(diagram.embedding.note[:1].upper() + diagram.embedding.note[1:]), ha="center", va="top",
-             fontsize=FONT, color=palette.LABEL)
+    force_unit = units.label("force")
+    per_metre = units.to_display(diagram.scale, "force")
+    ax_form, ax_force = fig.add_axes((0.01, 0.3, 0.47, 0.5)), fig.add_axes((0.52, 0.3, 0.47, 0.5))
+    placer = Labels()
+    form_bar = draw_form(ax_form, diagram, labels, placer)
+    force_bar = draw_force(ax_force, diagram, labels, placer)
+    panel_height = _panel_height(ax_form, ax_force, diagram.scale)
+    stack = _Stack(fig)
+    stack.skip(0.05)
+    stack.text(_wrap(_subtitle(diagram), 95), FONT + 1.5)
+    stack.text(_wrap(diagram.embedding.note[:1].upper() + diagram.embedding.note[1:], WRAP), SMALL)
+    titles = stack.skip(0.2 if diagram.dim == 2 else 0.34)  # a projection's force title takes two lines
+    panel_top = stack.skip(panel_height)
+    scale_at = stack.skip(SMALL * LINE + 0.06)
     handles = role_handles(diagram)
-    fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.085), ncol=min(len(handles), 4),
-               fontsize=FONT, frameon=False)
+    legend_at = stack.skip(math.ceil(len(handles) / 2) * FONT * 1.55 / 72 + 0.06)
+    labelled = _show_labels(diagram, labels)
     check = "closes" if diagram.passed else "DOES NOT CLOSE"
     footer = (f"Diagram {check} to {diagram.tolerance:g}: largest edge error {diagram.closure_error:.1e}, load line "
               f"{diagram.load_line_error:.1e}, largest node polygon {float(diagram.node_error.max(initial=0)):.1e} "
-              f"(relative to the largest force, {units.to_display(diagram.force_scale, 'force'):.4g} {units.label('force')}). "
+              f"(relative to the largest force, {units.to_display(diagram.force_scale, 'force'):.4g} {force_unit}). "
               f"Spaces A, B, ... (Bow's notation) in the form are points a, b, ... in the force diagram; "
-              f"a member is named by the two spaces it parts.")
+              f"a member is named by the two spaces it parts. Member labels: id and force ({force_unit}), "
+              f"tension +, compression {palette.MINUS}.")
     if not labelled:
         footer += f" Labels left out above {labels_up_to} members." if labels_up_to is not None else " Labels left out."
     elif diagram.faces.count > SPACES_UP_TO:
         footer += f" Space letters left out above {SPACES_UP_TO} spaces."
     crossing = _crossing_text(diagram)
-    fig.text(0.5, 0.075, _wrap(footer + (" " + crossing if crossing else ""), 190), ha="center", va="top",
-             fontsize=FONT - 0.5, color=palette.LABEL)
-    return save_figure(fig, path, fmt)
+    stack.text(_wrap(footer + (" " + crossing if crossing else ""), WRAP), SMALL)
+    note_at = stack.skip(SMALL * LINE + 0.03)
+    height = stack.finish()
+
+    def frac(y):
+        return 1 - y / height
+
+    ax_form.set_position((0.01, frac(panel_top + panel_height), 0.47, panel_height / height))
+    ax_force.set_position((0.52, frac(panel_top + panel_height), 0.47, panel_height / height))
+    _one_scale(ax_form, ax_force, diagram.scale)
+    plane = _projection_title(diagram)
+    for x, title in ((0.25, "Form diagram" + (f", {plane}" if plane else "")),
+                     (0.75, "Force diagram" + (f", {plane}\nedges foreshortened: labels give the true force ({force_unit})"
+                                               if plane else ""))):
+        fig.text(x, frac(titles), title, ha="center", va="top", fontsize=FONT + 1.5, color=palette.LABEL)
+    if plane:
+        for ax in (ax_form, ax_force):
+            draw_triad(ax, diagram.embedding.projection.basis)
+    fig.text(0.5, frac(scale_at), f"One scale: 1 {units.label('length')} of the form is drawn as long as {per_metre:g} "
+             f"{force_unit} of the force diagram (bars {form_bar:g} {units.label('length')} and {force_bar:g} {force_unit}).",
+             ha="center", va="top", fontsize=SMALL, color=palette.LABEL, gid="scale-note")
+    fig.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, frac(legend_at)), ncol=2, fontsize=FONT,
+               frameon=False, borderaxespad=0.0, handlelength=3.0)
+    placer.place(fig)
+    fig.text(0.5, frac(note_at), placer.note() or f"All {placer.asked} labels drawn.", ha="center", va="top",
+             fontsize=SMALL, color=palette.LABEL, gid="label-note")
+    return fig
+
+
+def form_force_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None, labels: bool | None = None,
+                      labels_up_to: int | None = None) -> Path:
+    """``form_force_chart`` written to ``path``; returns the path written."""
+    return save_figure(form_force_chart(diagram, labels, labels_up_to), path, fmt)
+
+
+def round_off(diagram: ForceDiagram) -> float | None:
+    """The largest closure error (relative) where every one is round-off (below ROUND_OFF), else None."""
+    largest = max(diagram.closure_error, float(diagram.vertex_error.max(initial=0.0)))
+    return largest if largest < ROUND_OFF else None
+
+
+def verification_chart(diagram: ForceDiagram) -> Figure:
+    """The closure check: node polygons and load line, edge errors, and the load line drawn head to tail.
+
+    Where every error is round-off, the two bar panels (a chart of noise) become one line of text."""
+    noise = round_off(diagram)
+    fig = Figure(figsize=(FIGURE_WIDTH, 5.0))
+    stack = _Stack(fig)
+    stack.skip(0.05)
+    stack.text(_wrap(f"Closure of the force diagram - {_subtitle(diagram)}", 95), FONT + 1.5)
+    placer = Labels()
+    if noise is not None:
+        stack.text(_wrap(f"Largest closure error {noise:.1e} of the largest force (node polygons, load line and every "
+                         f"edge; tolerance {diagram.tolerance:g}): round-off.", WRAP), FONT, gid="round-off")
+        bars = None
+    else:
+        legend_at = stack.skip(FONT * 1.6 / 72 + 0.05)
+        bars = stack.skip(2.0)
+        stack.skip(0.75 if max(diagram.graph.n_nodes, diagram.graph.n_elements) <= 40 else 0.3)  # item names under bars
+    line_at = stack.skip(2.4)
+    stack.skip(0.45)  # the closing gap, under the load line
+    note_at = stack.skip(SMALL * LINE + 0.03)
+    height = stack.finish()
+
+    def frac(y):
+        return 1 - y / height
+
+    if bars is not None:
+        ax_nodes = fig.add_axes((0.09, frac(bars + 2.0), 0.38, 1.8 / height))
+        ax_edges = fig.add_axes((0.59, frac(bars + 2.0), 0.38, 1.8 / height))
+        _closure_bars(ax_nodes, diagram)
+        _edge_bars(ax_edges, diagram)
+        handles = [Line2D([], [], color=palette.NODE, ls="--", lw=0.8, label=f"tolerance {diagram.tolerance:g} (relative)"),
+                   Line2D([], [], color=palette.TENSION, lw=4, label="within tolerance"),
+                   Line2D([], [], color=palette.COMPRESSION, lw=4, label="beyond tolerance"),
+                   Line2D([], [], marker="o", ls="", color=palette.LABEL, ms=3, label="angle edge-member (rad)")]
+        fig.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, frac(legend_at)), ncol=4, fontsize=FONT,
+                   frameon=False, borderaxespad=0.0)
+    ax_line = fig.add_axes((0.2, frac(line_at + 2.4), 0.6, 2.2 / height))
+    _load_line(ax_line, diagram, placer)
+    if diagram.dim == 3:
+        draw_triad(ax_line, diagram.embedding.projection.basis)
+    placer.place(fig)
+    if placer.dropped:
+        fig.text(0.5, frac(note_at), placer.note(), ha="center", va="top", fontsize=SMALL, color=palette.LABEL,
+                 gid="label-note")
+    return fig
 
 
 def verification_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None) -> Path:
-    """The closure check: node polygons and load line, edge errors, and the load line drawn head to tail."""
-    fig = Figure(figsize=(11.0, 4.4))
-    ax_nodes = fig.add_axes((0.06, 0.3, 0.27, 0.56))
-    ax_edges = fig.add_axes((0.40, 0.3, 0.27, 0.56))
-    ax_line = fig.add_axes((0.71, 0.16, 0.28, 0.72))
-    _closure_bars(ax_nodes, diagram)
-    _edge_bars(ax_edges, diagram)
-    _load_line(ax_line, diagram)
-    if diagram.dim == 3:
-        draw_triad(ax_line, diagram.embedding.projection.basis)
-    fig.suptitle(f"Closure of the force diagram - {_subtitle(diagram)}", fontsize=FONT + 3, y=0.985)
-    handles = [Line2D([], [], color=palette.NODE, ls="--", lw=0.8, label=f"tolerance {diagram.tolerance:g} (relative)"),
-               Line2D([], [], color=palette.TENSION, lw=4, label="within tolerance"),
-               Line2D([], [], color=palette.COMPRESSION, lw=4, label="beyond tolerance"),
-               Line2D([], [], marker="o", ls="", color=palette.LABEL, ms=3, label="angle edge-member (rad)")]
-    fig.legend(handles=handles, loc="lower left", bbox_to_anchor=(0.05, 0.0), ncol=4, fontsize=FONT, frameon=False)
-    return save_figure(fig, path, fmt)
+    """``verification_chart`` written to ``path``; returns the path written."""
+    return save_figure(verification_chart(diagram), path, fmt)
 
 
 FLOOR = 1e-18  # exact zeros shown at this height on the log axes
@@ -590,10 +752,10 @@ def _log_axis(ax, labels: list[str], title: str, ylabel: str, tolerance: float, 
     ax.axhline(tolerance, color=palette.NODE, ls="--", lw=0.8)
     ax.set_title(title, fontsize=FONT + 1)
     ax.set_ylabel(ylabel, fontsize=FONT)
-    ax.tick_params(labelsize=FONT - 0.5)
+    ax.tick_params(labelsize=SMALL)
     if len(labels) <= 40:
         ax.set_xticks(range(len(labels)))
-        ax.set_xticklabels(labels, rotation=90, fontsize=FONT - 1)
+        ax.set_xticklabels(labels, rotation=90, fontsize=SMALL)
     elif worst is None:
         ax.set_xlabel(f"{len(labels)} items, in file order", fontsize=FONT)
     else:
@@ -649,8 +811,9 @@ def _edge_bars(ax, diagram: ForceDiagram) -> None:
               diagram.tolerance, worst)
 
 
-def _load_line(ax, diagram: ForceDiagram) -> None:
+def _load_line(ax, diagram: ForceDiagram, placer: Labels | None = None) -> None:
     """External forces head to tail in their order around the frame, from point a: the gap is the closure."""
+    placer = placer if placer is not None else Labels()
     graph, emb, faces = diagram.graph, diagram.embedding, diagram.faces
     units = diagram.units
     ax.set_aspect("equal", adjustable="datalim")
@@ -685,9 +848,8 @@ def _load_line(ax, diagram: ForceDiagram) -> None:
         colour, dashes = ROLE_STYLE[graph.kinds[e]]
         arrows.append((xy[i], xy[i + 1], palette.line_width(graph.forces[e], largest), colour, dashes))
         if len(around) <= 40:  # labels alternate sides: collinear loads overlap on the line
-            ax.annotate(_edge_tag(diagram, e), (xy[i] + xy[i + 1]) / 2, xytext=(8 if i % 2 else -8, 0),
-                        textcoords="offset points", ha="left" if i % 2 else "right", va="center", fontsize=FONT - 0.5,
-                        color=colour, zorder=5)
+            placer.add(offset_text(ax, (xy[i] + xy[i + 1]) / 2, (8 if i % 2 else -8, 0), _edge_tag(diagram, e),
+                                   ha="left" if i % 2 else "right", va="center", fontsize=SMALL, color=colour, zorder=5))
     extent = float(np.ptp(xy, axis=0).max()) if len(xy) > 1 else 0.0
     _draw_arrows(ax, arrows, extent or 1.0, mutation_scale=8, zorder=3)
     ax.scatter(xy[:1, 0], xy[:1, 1], s=20, color=palette.NODE, zorder=4)

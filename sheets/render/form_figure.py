@@ -5,8 +5,9 @@ Three kinds, each a matplotlib Figure built without pyplot (no global state):
 - ``model_figure``: the frame with node and member labels and the supports;
 - ``loads_figure``: the frame in grey with the nodal loads of one load case;
 - ``forces_figure``: the frame coloured by the member forces of one state
-  (tension bluish green, compression vermillion, zero-force grey; line width
-  proportional to |force|), with its loads (black) and reactions (sky blue);
+  (tension bluish green and solid, compression vermillion and dashed, zero-force
+  grey; line width proportional to |force|; labels carry the signed force), with
+  its loads (black) and reactions (blue);
 - ``displaced_figure``: the displaced shape of one state over the frame as
   given, displacements exaggerated by a stated round factor.
 
@@ -33,10 +34,13 @@ from sheets.model.schema import NAMED_DIRECTIONS
 from sheets.reciprocal.projection import plane_basis, plane_name
 from sheets.render import palette
 from sheets.render.diagram2d import _add_lines, _markers
+from sheets.render.labels import Labels, offset_text
 from sheets.render.triad import draw_triad
 
 PANEL_INCHES = 6.4  # width of a single-view figure
 FONT = 6.5
+NOTE_INCHES = 0.12  # a line under the legend for the labels left out
+SMALL = 6.0  # the smallest text: at PANEL_INCHES the figure prints at 1:1 or larger on every template
 
 
 def _views(project: Project) -> list[tuple[str, np.ndarray]]:
@@ -68,7 +72,7 @@ def _legend(fig: Figure, handles, title: str, ncol: int) -> float:
     """A legend under the panels; returns the height it needs (inches)."""
     fig.legend(handles=handles, loc="lower center", ncol=ncol, fontsize=FONT, frameon=False, title=title, title_fontsize=FONT)
     rows = 1 + math.ceil(len(handles) / ncol)
-    return rows * FONT * 1.8 / 72 + 0.08
+    return rows * FONT * 1.8 / 72 + 0.08 + NOTE_INCHES
 
 
 def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
@@ -90,6 +94,8 @@ def _finish(fig: Figure, axes, legend_inches: float) -> Figure:
     heights = [max(max(h * per_unit for _, _, _, h in row), 0.12 * inner) for row in rows]
     height = sum(heights) + title * len(rows) + legend_inches
     fig.set_size_inches(PANEL_INCHES, height)
+    for legend in fig.legends:  # above the line kept for the note of labels left out (``_placed``)
+        legend.set_bbox_to_anchor((0.5, NOTE_INCHES / height), transform=fig.transFigure)
     top = height
     for r, row_height in enumerate(heights):
         top -= title
@@ -112,13 +118,13 @@ def _extent(xy: np.ndarray) -> float:
 def _furniture(axes, views, xys, project: Project) -> None:
     """One length scale bar (all views share its scale, see ``_finish``) and an axis triad in every 3D view."""
     note = " (every view)" if len(axes) > 1 else ""
-    _scale_bar(axes[0], xys[0], project.units.label("length") + note, project.units.factor("length"))
+    _scale_bar(axes[0], xys[0], project.units.label("length"), project.units.factor("length"), note)
     if project.dim == 3:
         for ax, (_, proj) in zip(axes, views):
             draw_triad(ax, proj.T)
 
 
-def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
+def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float, note: str = ""):
     """A length scale bar under the frame: a round length in the display unit."""
     extent = _extent(xy) / factor
     step = 10 ** math.floor(math.log10(extent / 4)) if extent > 0 else 1.0
@@ -131,32 +137,40 @@ def _scale_bar(ax, xy: np.ndarray, unit: str, factor: float):
     ax.plot([x0, x0 + length], [y0, y0], color=palette.LABEL, lw=1.2, solid_capstyle="butt")
     for x in (x0, x0 + length):
         ax.plot([x, x], [y0 - 0.01 * _extent(xy), y0 + 0.01 * _extent(xy)], color=palette.LABEL, lw=0.8)
-    ax.text(x0 + length / 2, y0 - 0.02 * _extent(xy), f"{step:g} {unit}", ha="center", va="top", fontsize=FONT)
+    ax.text(x0 + length / 2, y0 - 0.02 * _extent(xy), f"{step:g} {unit}{note}", ha="center", va="top", fontsize=FONT,
+            gid="scale-bar")
     ax.update_datalim([[x0, y0 - 0.045 * _extent(xy)]])
 
 
-def _members(ax, project: Project, xy: np.ndarray, colours, widths, zorder=2):
-    """Members as lines (one colour or one per member); large frames gathered into a path per colour and
-    width (diagram2d._add_lines), which matplotlib and the vector recorder draw in one go."""
+def _members(ax, project: Project, xy: np.ndarray, colours, widths, zorder=2, styles="solid"):
+    """Members as lines (one colour, width and style, or one per member: compression dashed); large frames
+    gathered into a path per colour, style and width (diagram2d._add_lines), drawn in one go."""
     m = project.n_members
     colours = [colours] * m if isinstance(colours, str) else list(colours)
     widths = [float(widths)] * m if np.isscalar(widths) else list(widths)
-    _add_lines(ax, xy[project.ends], colours, widths, zorder=zorder)
+    styles = [styles] * m if isinstance(styles, str) else list(styles)
+    _add_lines(ax, xy[project.ends], colours, widths, styles, zorder=zorder)
 
 
-def _labels(ax, project: Project, xy: np.ndarray, members: bool = True, nodes: bool = True):
+def _labels(ax, project: Project, xy: np.ndarray, members: bool = True, nodes: bool = True, placer: Labels | None = None,
+            texts=None, order=None):
+    """Node ids, and member ids (or ``texts``, one per member, in ``order`` of importance)."""
+    placer = placer if placer is not None else Labels()
     if nodes:
         for nid, (x, y) in zip(project.node_ids, xy):
-            ax.annotate(nid, (x, y), xytext=(2.5, 2.5), textcoords="offset points", fontsize=FONT, color=palette.NODE)
+            placer.add(offset_text(ax, (x, y), (2.5, 2.5), nid, fontsize=FONT, color=palette.NODE, ha="left",
+                                   va="bottom"))
     if members:
         mid = xy[project.ends].mean(axis=1)
-        for label, (x, y) in zip(project.member_ids, mid):
-            ax.text(x, y, label, fontsize=FONT - 0.5, color=palette.LABEL, ha="center", va="center",
-                    bbox=dict(boxstyle="round,pad=0.12", fc="white", ec="none", alpha=0.8), zorder=5)
+        texts = project.member_ids if texts is None else texts
+        for e in (range(project.n_members) if order is None else order):
+            placer.add(ax.text(mid[e, 0], mid[e, 1], texts[e], fontsize=SMALL, color=palette.LABEL, ha="center",
+                               va="center", bbox=dict(boxstyle="round,pad=0.12", fc="white", ec="none", alpha=0.8),
+                               zorder=5))
 
 
-def _supports(ax, project: Project, xy: np.ndarray, proj: np.ndarray, size: float):
-    """A triangle under each supported node; its text names the fixed axes."""
+def _supports(ax, project: Project, xy: np.ndarray, proj: np.ndarray, size: float, placer: Labels | None = None):
+    """A triangle under each supported node; its text (placed by ``placer`` where given) names the fixed axes."""
     supported = np.flatnonzero(project.fixed.any(axis=1))
     if not len(supported):
         return
@@ -165,8 +179,9 @@ def _supports(ax, project: Project, xy: np.ndarray, proj: np.ndarray, size: floa
     if len(supported) <= (60 if project.dim == 2 else 16):
         for n in supported:
             axes = "".join(a for a, f in zip(project.axes, project.fixed[n]) if f)
-            ax.annotate(axes, (xy[n, 0], xy[n, 1]), xytext=(0, -9), textcoords="offset points", fontsize=FONT - 1,
-                        ha="center", va="top", color=palette.LABEL)
+            text = offset_text(ax, xy[n], (0, -9), axes, fontsize=SMALL, ha="center", va="top", color=palette.LABEL)
+            if placer is not None:
+                placer.add(text)
 
 
 def _arrows(ax, points: np.ndarray, vectors: np.ndarray, colour: str, scale: float, head: float, tail_at_node: bool):
@@ -213,18 +228,28 @@ def model_figure(project: Project, labels_up_to: int = 120) -> Figure:
     """The frame with node and member labels and the supports."""
     fig, axes, views, xys = _layout(project)
     labelled = project.n_members <= labels_up_to
+    placer = Labels()
     for ax, (_, proj), xy in zip(axes, views, xys):
         _members(ax, project, xy, palette.LABEL, 0.8 if labelled else 0.25)  # hairlines: a large grid stays a grid
         if labelled:
             ax.scatter(xy[:, 0], xy[:, 1], s=6, color=palette.NODE, zorder=3)
-            _labels(ax, project, xy)
-        _supports(ax, project, xy, proj, 40 if labelled else 12)
+            _labels(ax, project, xy, placer=placer)
+        _supports(ax, project, xy, proj, 40 if labelled else 12, placer)
     _furniture(axes, views, xys, project)
     handles = [Line2D([], [], color=palette.LABEL, lw=0.8, label="member"),
                Line2D([], [], marker="^", ls="", mfc="white", mec=palette.NODE, label="support (fixed axes named)")]
     note = "" if labelled else f" (labels omitted above {labels_up_to} members)"
     space = _legend(fig, handles, f"Form diagram, {project.n_nodes} nodes, {project.n_members} members{note}", 2)
-    return _finish(fig, axes, space)
+    return _placed(_finish(fig, axes, space), placer)
+
+
+def _placed(fig: Figure, placer: Labels) -> Figure:
+    """Labels placed clear of each other once the panels are final; the count left out said under the legend."""
+    placer.place(fig)
+    if placer.dropped:
+        fig.text(0.5, 0.002, placer.note(), ha="center", va="bottom", fontsize=SMALL, color=palette.LABEL,
+                 gid="label-note")
+    return fig
 
 
 LOAD_CLASSES = 8  # magnitude classes of the load dots of a large frame
@@ -277,9 +302,10 @@ def loads_figure(project: Project, loads: np.ndarray, title: str, labels_up_to: 
     f_unit, f_factor = project.units.label("force"), project.units.factor("force")
     loaded = np.flatnonzero(np.abs(loads).max(axis=1) > 0)
     scale = largest = 0.0
+    placer = Labels()
     for ax, (_, proj), xy in zip(axes, views, xys):
         _members(ax, project, xy, palette.ZERO_FORCE, 0.7)
-        _supports(ax, project, xy, proj, 25 if project.n_members <= 300 else 10)
+        _supports(ax, project, xy, proj, 25 if project.n_members <= 300 else 10, placer)
         vecs = loads[loaded] @ proj
         scale, largest = _force_scale([loads[loaded]], _extent(xy))
         head = 0.025 * _extent(xy)
@@ -288,15 +314,15 @@ def loads_figure(project: Project, loads: np.ndarray, title: str, labels_up_to: 
         if len(loaded) <= 40:
             for n, v in zip(loaded, loads[loaded]):
                 tail = xy[n] - (v @ proj) * scale
-                ax.annotate(f"{np.linalg.norm(v) / f_factor:.3g}", tail, fontsize=FONT - 0.5, ha="center", va="bottom",
-                            xytext=(0, 2), textcoords="offset points")
+                placer.add(offset_text(ax, tail, (0, 2), f"{np.linalg.norm(v) / f_factor:.3g}", fontsize=SMALL,
+                                       ha="center", va="bottom"))
     _furniture(axes, views, xys, project)
     handles = [Line2D([], [], color=palette.LOAD, lw=2, label=f"load (arrow {0.12:.0%} of frame size = {largest / f_factor:.3g} {f_unit})"),
                Line2D([], [], color=palette.ZERO_FORCE, lw=0.7, label="member")]
     if project.dim == 3:
         handles.append(Line2D([], [], marker="o", ls="", mfc="none", mec=palette.LOAD,
                               label="load along the view direction (ring area proportional to |load|)"))
-    return _finish(fig, axes, _legend(fig, handles, title, 2))
+    return _placed(_finish(fig, axes, _legend(fig, handles, title, 2)), placer)
 
 
 def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, reactions: np.ndarray, title: str,
@@ -307,29 +333,34 @@ def forces_figure(project: Project, forces: np.ndarray, loads: np.ndarray, react
     largest = float(np.abs(forces).max(initial=0.0))
     colours = [palette.force_colour(t, largest) for t in forces]
     widths = [palette.line_width(t, largest) for t in forces]
+    styles = [palette.line_style(t, largest) for t in forces]
+    signed = [f"{mid} {palette.signed(t / f_factor, largest=largest / f_factor)}" for mid, t in zip(project.member_ids, forces)]
+    strongest = np.argsort(-np.abs(forces), kind="stable")
+    placer = Labels()
     loaded = np.flatnonzero(np.abs(loads).max(axis=1) > 0)
     supported = np.flatnonzero(np.abs(reactions).max(axis=1) > 0)
     arrow_max = 0.0
     for ax, (_, proj), xy in zip(axes, views, xys):
-        _members(ax, project, xy, colours, widths)
+        _members(ax, project, xy, colours, widths, styles=styles)
         scale, arrow_max = _force_scale([loads[loaded], reactions[supported]], _extent(xy))
         head = 0.02 * _extent(xy)
         _arrows(ax, xy[loaded], loads[loaded] @ proj, palette.LOAD, scale, head, tail_at_node=False)
         _arrows(ax, xy[supported], reactions[supported] @ proj, palette.REACTION, scale, head, tail_at_node=True)
         if project.n_members <= labels_up_to:
-            _labels(ax, project, xy, nodes=False)
+            _labels(ax, project, xy, nodes=False, placer=placer, texts=signed, order=strongest)
     _furniture(axes, views, xys, project)
     thick = palette.line_width(largest, largest)
     half = palette.line_width(largest / 2, largest)
     handles = [
-        Line2D([], [], color=palette.TENSION, lw=half, label="tension"),
-        Line2D([], [], color=palette.COMPRESSION, lw=half, label="compression"),
+        Line2D([], [], color=palette.TENSION, lw=half, label=f"tension (+, solid; labels: id and force in {f_unit})"),
+        Line2D([], [], color=palette.COMPRESSION, lw=half, ls=palette.COMPRESSION_STYLE,
+               label=f"compression ({palette.MINUS}, dashed)"),
         Line2D([], [], color=palette.ZERO_FORCE, lw=palette.line_width(0, largest), label="zero force"),
         Line2D([], [], color=palette.LABEL, lw=thick, label=f"width {thick:.1f} pt = {largest / f_factor:.4g} {f_unit}"),
         Line2D([], [], color=palette.LOAD, lw=2, label="load"),
         Line2D([], [], color=palette.REACTION, lw=2, label=f"reaction (longest arrow {arrow_max / f_factor:.4g} {f_unit})"),
     ]
-    return _finish(fig, axes, _legend(fig, handles, title, 3))
+    return _placed(_finish(fig, axes, _legend(fig, handles, title, 2)), placer)
 
 
 def exaggeration(largest: float, extent: float, share: float = 0.08) -> float:
@@ -362,7 +393,7 @@ def displaced_figure(project: Project, displacements: np.ndarray, title: str, la
             p = moved[k] @ proj
             ax.scatter([p[0]], [p[1]], s=40, facecolor="none", edgecolor=palette.DISPLACED, linewidths=1.0, zorder=6)
             ax.annotate(marked, (p[0], p[1]), xytext=(4, -8), textcoords="offset points", fontsize=FONT, color=palette.DISPLACED)
-        _scale_bar(ax, xy, project.units.label("length"), project.units.factor("length"))
+    _furniture(axes, views, xys, project)
     handles = [Line2D([], [], color=palette.ZERO_FORCE, lw=0.6, label="frame as given"),
                Line2D([], [], color=palette.DISPLACED, lw=1.2,
                       label=f"displaced, displacements drawn x {scale:g} (largest {largest / d_factor:.3g} {d_unit})")]

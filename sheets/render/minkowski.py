@@ -100,7 +100,7 @@ def _figure_2d(analysis, view: MinkowskiView, path: Path, labels_up_to: int | No
         for piece in view.members:
             if piece.loops:
                 c = piece.vertices[list(piece.loops[0])].mean(axis=0)
-                ax.text(c[0], c[1], piece.id, fontsize=5, ha="center", va="center", zorder=5)
+                ax.text(c[0], c[1], piece.id, fontsize=6, ha="center", va="center", zorder=5)
     allpts = np.vstack([p.vertices for p in view.members + view.nodes if len(p.vertices)] + [shrunk])
     _scale_bar(ax, allpts, project.units.label("length"), project.units.factor("length"))
     ax.autoscale_view()
@@ -109,7 +109,7 @@ def _figure_2d(analysis, view: MinkowskiView, path: Path, labels_up_to: int | No
                Patch(facecolor="white", edgecolor=palette.LABEL, label="node: force polygon turned 90 degrees")]
     fig.legend(handles=handles, loc="lower center", ncol=3, fontsize=6, frameon=False,
                title=f"Minkowski sum (1-s) form + s force, state {state.id}: {state.title}", title_fontsize=6.5)
-    fig.text(0.02, 0.985, "\n".join(totals_text(view, project.units)), fontsize=5.5, va="top", family="monospace")
+    fig.text(0.02, 0.985, "\n".join(totals_text(view, project.units)), fontsize=6, va="top", family="monospace")
     fig.subplots_adjust(left=0.02, right=0.98, top=0.9, bottom=0.1)
     return _save_figure(fig, path)
 

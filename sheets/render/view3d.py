@@ -261,7 +261,7 @@ def views_figure(diagram: ForceDiagram, path: str | Path, fmt: str | None = None
                 _pixel_scale_bar(ax, image.shape, per_unit, units.label(kind) + note, units.factor(kind))
     fig.suptitle(f"{diagram.title} - {diagram.state_kind} {diagram.state_id}: {diagram.state_title} (3D views)",
                  fontsize=FONT + 2.5, y=0.985)
-    handles = role_handles(diagram)
+    handles = role_handles(diagram, line_styles=False)  # tubes are solid whatever their sense
     handles = [h for h in handles if not h.get_label().startswith(("crossing", "edge passing", "width"))]
     drawn = "tube radius" if not lines else (f"line width (diagrams of more than {TUBES_UP_TO} edges are drawn as "
                                              "lines)" if len(lines) == len(rows) else f"tube radius ({', '.join(lines)}: line width)")

@@ -37,7 +37,8 @@ class TwoColumnTable(Flowable):
             t = self.make(self.rows)
             t.wrap(self._column_width(avail), 1e9)
             heights = list(t._rowHeights)
-            self._heights, self._width = (heights[0], heights[1:]), avail
+            top = t.repeatRows  # the caption and header rows every column repeats
+            self._heights, self._width = (sum(heights[:top]), heights[top:]), avail
         return self._heights
 
     def _height(self, head: float, rows: list[float], k: int) -> float:

@@ -29,7 +29,7 @@ from sheets.report.fonts import Fonts
 from sheets.report.templates import FOOTER_SIZE, Template
 
 LINE = colors.HexColor("#444444")
-LABEL_SIZE = 5.5
+LABEL_SIZE = 6.0  # no printed text under 6 pt
 VALUE_SIZE = 7.5
 ROW_HEIGHT = 19.0  # points per title-block row
 FOOTER_HEIGHT = 17.0
@@ -238,14 +238,15 @@ class SheetDocument(BaseDocTemplate):
         canvas.setFont(f.regular, FOOTER_SIZE)
         canvas.setFillColor(colors.black)
         canvas.drawString(m, m + FOOTER_HEIGHT - 7, t.footer_caution)  # the template check makes sure it fits
-        canvas.setFont(f.mono, 5.5)
+        canvas.setFont(f.mono, 6.0)
         canvas.setFillColor(LINE)
         canvas.drawString(m, m + 1, f"Input fingerprint (SHA-256): {self.fingerprint}")
         canvas.drawRightString(width - m, m + 1, f"sheets {self.version}")
         canvas.restoreState()
 
 
-def _fitting_size(text: str, font: str, size: float, width: float, smallest: float = 5.0) -> float:
+def _fitting_size(text: str, font: str, size: float, width: float, smallest: float = 6.0) -> float:
+    """``size`` shrunk until ``text`` fits ``width``, but never under ``smallest`` (then ``_fit`` cuts it)."""
     w = stringWidth(text, font, size)
     if w <= width:
         return size

@@ -174,8 +174,9 @@ def _forces(analysis: Analysis, template: Template, scratch: Path, state, prepar
     p = analysis.project
     title = f"{state_label(state)}: {state.title}"
     yield SheetFigure(safe_key("forces", state.id), "form_forces", state.id, f"Member forces, {title}",
-                      "Form diagram coloured by force: bluish green tension, vermillion compression, grey zero force; "
-                      "line width proportional to |force|. Loads black, reactions sky blue (arrows from their node).",
+                      "Form diagram coloured by force: bluish green solid tension, vermillion dashed compression, grey zero "
+                      "force; line width proportional to |force|; labels give each member's force with its sign "
+                      "(tension +). Loads black, reactions blue (arrows from their node).",
                       vector=_vector(form_figure.forces_figure(p, state.forces, state.loads, state.reactions, title,
                                                                template.labels_up_to)))
 
@@ -236,8 +237,9 @@ def _png_size(png: bytes) -> tuple[int, int]:
 
 RECIPROCAL = ("sheets.render.diagram2d", "reciprocal_figure")
 RECIPROCAL_CAPTION = (
-    "Left, the form diagram: members coloured by sense (bluish green tension, vermillion compression, grey zero force), "
-    "width proportional to |force|, loads black and reactions sky blue, spaces lettered in Bow's notation. Right, the "
+    "Left, the form diagram: members coloured by sense (bluish green solid tension, vermillion dashed compression, grey "
+    "zero force), width proportional to |force|, labels with the signed force (tension +), loads black and reactions "
+    "blue, spaces lettered in Bow's notation (the same letters in every state). Right, drawn at the same scale, the "
     "reciprocal force diagram: each edge parallel to its member, its length the force at the drawn scale, labelled by "
     "the member; its points carry the space letters in lower case.")
 
@@ -349,7 +351,7 @@ SOURCES: tuple[Source, ...] = (
     _state_figure("sheets.render.cells3d", "node_cells_figure", "cells", "Force cells at the nodes",
                   "Each node's force cell (Rankine's polyhedra, one closed cell per node; a polygon in 2D) drawn at the node, "
                   "all at one scale: a face per member with area |force| (bluish green tension, vermillion compression) "
-                  "and a face for the external force (black load, sky blue reaction).", vector_dims=(2,),
+                  "and a face for the external force (black load, blue reaction).", vector_dims=(2,),
                   inputs=_prepared_cells),
     Source("polyhedral diagram", _has_complex, _polar),
     _state_figure("sheets.render.minkowski", "minkowski_figure", "minkowski", "Minkowski-sum view",

@@ -91,7 +91,8 @@ def figure(fig: SheetFigure, sheet: SheetSet, st: Styles, number: str = "") -> l
         w, h = fig.png_size
         scale = min(sheet.width / w, max_h / h)
         body = Image(io.BytesIO(fig.png), width=w * scale, height=h * scale)
-    caption = para(f"<b>{escape(number + ' ' if number else '')}{escape(fig.title)}.</b> {escape(fig.caption)} "
+    number = number or st.numbering.next("Figure")
+    caption = para(f"<b>{escape(number)}. {escape(fig.title)}.</b> {escape(fig.caption)} "
                    f"<font color='#555555'>(figures/{escape(fig.file_name)})</font>", st, "caption")
     return [KeepTogether([body, caption])]
 
@@ -338,7 +339,10 @@ def model(sheet: SheetSet, st: Styles) -> list:
         ("Total member length", f"{fmt(lengths.sum() / L, 'length')} {ulabel(u, 'length')}"),
         ("Supported nodes", f"{int(p.fixed.any(axis=1).sum())} ({int(p.fixed.sum())} fixed translations)"),
     ], w * 0.8, 0.35))
-    for fig in sheet.figures_for("model"):
+    drawn = sheet.figures_for("model")
+    if drawn:
+        out.append(para(f"The frame with its node and member ids and its supports: {st.numbering.ahead('Figure', len(drawn))}.", st))
+    for fig in drawn:
         out += figure(fig, sheet, st)
     groups: dict[str, list[int]] = {}
     for e, g in enumerate(p.member_groups):
@@ -422,6 +426,14 @@ def states(sheet: SheetSet, st: Styles) -> list:
         if state.factors:
             out.append(para("Factors: " + escape(" + ".join(f"{f:g} x {cid}" for cid, f in state.factors)), st))
         out.append(para(f"Method: {escape(state.method)}.", st, "small"))
+        shown = sum(len(sheet.figures_for(part, state.id)) for part in sheet.template.state_parts if part in FIGURE_PARTS)
+        refs = []
+        if list(sheet.template.state_parts[:1]) == ["forces"]:  # then the next table is the member forces
+            refs.append(f"{st.numbering.ahead('Table')} for its member forces")
+        if shown:
+            refs.append(f"{st.numbering.ahead('Figure', shown)} for its drawings")
+        if refs:
+            out.append(para("See " + " and ".join(refs) + ".", st, "small"))
         for part in sheet.template.state_parts:
             out += PARTS[part](sheet, st, state)
     return out
@@ -443,7 +455,8 @@ def part_forces(sheet: SheetSet, st: Styles, state) -> list:
     rows = [[p.member_ids[e], f"{p.node_ids[p.ends[e, 0]]}-{p.node_ids[p.ends[e, 1]]}",
              fmt(lengths[e] / p.units.factor("length"), "length"), fmt(t[e] / f, "force"), _sense(t[e], largest)] for e in order]
     out.append(long_table(sheet, st, ["Member", "Nodes", f"Length [{ulabel(p.units, 'length')}]", f"Force [{_force_unit(p)}]", "Sense"],
-                          rows, numeric={2, 3}, total_width=sheet.width * 0.75, two_columns=True))
+                          rows, numeric={2, 3}, total_width=sheet.width * 0.75, two_columns=True,
+                          title=f"Member forces, {state_label(state)}"))
     return out
 
 
@@ -460,7 +473,8 @@ def part_reactions(sheet: SheetSet, st: Styles, state) -> list:
     rows.append(["Sum"] + [fmt(v, "force") for v in total])
     out: list = [Paragraph("Reactions", st.h2),
                  long_table(sheet, st, ["Node"] + [f"R{a} [{_force_unit(p)}]" for a in p.axes], rows,
-                            numeric=set(range(1, p.dim + 1)), total_width=sheet.width * 0.55, two_columns=True)]
+                            numeric=set(range(1, p.dim + 1)), total_width=sheet.width * 0.55, two_columns=True,
+                            title=f"Reactions, {state_label(state)}")]
     return out
 
 
@@ -479,7 +493,7 @@ def part_checks(sheet: SheetSet, st: Styles, state) -> list:
     ]
     verdict = "All checks pass." if c.passed else "A CHECK FAILS: this state's results must not be used."
     return [Paragraph("Checks on the solution", st.h2),
-            table(st, ["Check", "Value", "Limit"], rows, numeric={1, 2},
+            table(st, ["Check", "Value", "Limit"], rows, numeric={1, 2}, title=f"Checks on the solution, {state_label(state)}",
                   widths=[sheet.width * 0.7, sheet.width * 0.12, sheet.width * 0.12], highlight=[] if c.passed else [0, 1, 2, 3]),
             para(f"<b>{verdict}</b> Load path theorem: Maxwell, \"On reciprocal figures, frames, and diagrams of forces\", "
                  "Trans. R. Soc. Edinburgh 26 (1870); reactions counted as loads.", st, "small")]
@@ -514,6 +528,7 @@ def part_load_path(sheet: SheetSet, st: Styles, state) -> list:
     return out
 
 
+FIGURE_PARTS = ("form_forces", "force_diagram", "cells", "minkowski", "load_path")  # the state parts that draw figures
 PARTS: dict[str, Callable] = {
     "forces": part_forces,
     "reactions": part_reactions,

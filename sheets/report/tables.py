@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from reportlab.lib import colors
 from reportlab.lib.enums import TA_LEFT
@@ -53,6 +53,28 @@ def fmt(value, kind: str) -> str:
     return "0" + text[2:] if text.startswith("-0") and float(text.replace(",", "")) == 0 else text
 
 
+class Numbering:
+    """Figure and table numbers through the whole sheet set, in reading order: the one place they are
+    counted (the sections are built once, in the order they are read)."""
+
+    def __init__(self):
+        self.counts: dict[str, int] = {}
+
+    def next(self, kind: str) -> str:
+        """'Figure 3': the number of the next figure (or 'Table'), counted."""
+        self.counts[kind] = self.counts.get(kind, 0) + 1
+        return f"{kind} {self.counts[kind]}"
+
+    def ahead(self, kind: str, count: int = 1) -> str:
+        """How text refers to the next ``count`` items of ``kind`` before they are placed: 'Figure 4',
+        'Figures 4 and 5', 'Figures 4 to 7'."""
+        first = self.counts.get(kind, 0) + 1
+        last = first + count - 1
+        if count <= 1:
+            return f"{kind} {first}"
+        return f"{kind}s {first} and {last}" if count == 2 else f"{kind}s {first} to {last}"
+
+
 @dataclass(frozen=True)
 class Styles:
     body: ParagraphStyle
@@ -66,9 +88,16 @@ class Styles:
     cover_title: ParagraphStyle
     caution: ParagraphStyle
     fonts: Fonts
+    numbering: Numbering = field(default_factory=Numbering, compare=False)
+
+
+SMALLEST = 6.0  # points: no printed text is smaller
 
 
 def make_styles(fonts: Fonts, size: float) -> Styles:
+    def smaller(by: float) -> float:
+        return max(SMALLEST, size - by)
+
     def style(name, **kw):
         base = dict(fontName=fonts.regular, bulletFontName=fonts.regular, fontSize=size, leading=size * 1.3, alignment=TA_LEFT)
         base.update(kw)
@@ -76,10 +105,10 @@ def make_styles(fonts: Fonts, size: float) -> Styles:
 
     return Styles(
         body=style("body", spaceAfter=size * 0.5),
-        small=style("small", fontSize=size - 1.5, leading=(size - 1.5) * 1.3, spaceAfter=size * 0.4),
-        cell=style("cell", fontSize=size - 1, leading=(size - 1) * 1.2),
-        cell_head=style("cell_head", fontName=fonts.bold, fontSize=size - 1, leading=(size - 1) * 1.2),
-        caption=style("caption", fontSize=size - 1, leading=(size - 1) * 1.3, textColor=colors.HexColor("#333333"),
+        small=style("small", fontSize=smaller(1.5), leading=smaller(1.5) * 1.3, spaceAfter=size * 0.4),
+        cell=style("cell", fontSize=smaller(1), leading=smaller(1) * 1.2),
+        cell_head=style("cell_head", fontName=fonts.bold, fontSize=smaller(1), leading=smaller(1) * 1.2),
+        caption=style("caption", fontSize=smaller(1), leading=smaller(1) * 1.3, textColor=colors.HexColor("#333333"),
                       spaceBefore=2, spaceAfter=size),
         h0=style("h0", fontName=fonts.bold, fontSize=size + 5, leading=(size + 5) * 1.25, spaceBefore=0,
                  spaceAfter=size * 0.8, keepWithNext=1),
@@ -108,13 +137,19 @@ def escape(text: str) -> str:
 
 def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[int] | None = None,
           widths: list[float] | None = None, highlight: list[int] | None = None, total_width: float | None = None,
-          repeat: bool = True, compact: bool = False) -> Table:
-    """A grid table with a shaded header repeated on every page; ``numeric`` columns right-aligned.
+          repeat: bool = True, compact: bool = False, title: str = "", number: str | None = None) -> Table:
+    """A numbered grid table ('Table N. title' above it) with a shaded header repeated on every page;
+    ``numeric`` columns right-aligned.
 
-    ``highlight`` rows (0-based, excluding the header) are shaded to flag a check above its limit.
-    ``compact`` sets a long table in smaller type with tighter padding, so every row fits in fewer pages.
+    ``highlight`` rows (0-based, excluding the header) are shaded to flag a check above its limit. The
+    number comes from ``styles.numbering``; text that refers to the table takes it first with
+    ``styles.numbering.ahead("Table")``. A table set in parts (two columns a page) takes its number
+    once and passes it as ``number``. ``compact`` sets a long table in smaller type with tighter
+    padding, so every row fits in fewer pages.
     """
     numeric = numeric or set()
+    number = number or styles.numbering.next("Table")
+    caption = f"{number}." + (f" {title}" if title else "")  # plain text: fits any column widths
     cell, cell_head, pad = styles.cell, styles.cell_head, 1.5
     if compact:
         small = min(cell.fontSize, max(COMPACT_FONT, cell.fontSize - 1))
@@ -125,23 +160,27 @@ def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[i
     body = [[Paragraph(escape(v), cell) if isinstance(v, str) and len(v) > 28 else v for v in row] for row in rows]
     if widths is None and total_width is not None:
         widths = _auto_widths(header, rows, total_width)
-    # splitByRow: a table longer than the page continues on the next one, under its repeated header
-    t = Table([head] + body, colWidths=widths, repeatRows=1 if repeat else 0, hAlign="LEFT", splitByRow=1)
+    # splitByRow: a table longer than the page continues on the next one, under its repeated caption and header
+    t = Table([[caption] + [""] * (len(header) - 1), head] + body, colWidths=widths, repeatRows=2 if repeat else 0,
+              hAlign="LEFT", splitByRow=1)
     size = cell.fontSize
     commands = [
         ("FONT", (0, 0), (-1, -1), styles.fonts.regular, size, cell.leading),  # the header too: no cell falls back to Helvetica
-        ("GRID", (0, 0), (-1, -1), 0.3, GRID),
-        ("BACKGROUND", (0, 0), (-1, 0), HEAD_FILL),
+        ("FONT", (0, 0), (-1, 0), styles.fonts.bold, size, cell.leading),
+        ("SPAN", (0, 0), (-1, 0)),  # the caption row: one cell across, no grid
+        ("GRID", (0, 1), (-1, -1), 0.3, GRID),
+        ("BACKGROUND", (0, 1), (-1, 1), HEAD_FILL),
         ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
         ("TOPPADDING", (0, 0), (-1, -1), pad),
         ("BOTTOMPADDING", (0, 0), (-1, -1), pad),
         ("LEFTPADDING", (0, 0), (-1, -1), 3),
         ("RIGHTPADDING", (0, 0), (-1, -1), 3),
+        ("LEFTPADDING", (0, 0), (0, 0), 0),
     ]
     for c in sorted(numeric):
-        commands.append(("ALIGN", (c, 1), (c, -1), "RIGHT"))
+        commands.append(("ALIGN", (c, 2), (c, -1), "RIGHT"))
     for r in highlight or []:
-        commands.append(("BACKGROUND", (0, r + 1), (-1, r + 1), FAIL_FILL))
+        commands.append(("BACKGROUND", (0, r + 2), (-1, r + 2), FAIL_FILL))
     t.setStyle(TableStyle(commands))
     t.spaceAfter = styles.body.fontSize * 0.8
     return t

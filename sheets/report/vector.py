@@ -57,6 +57,7 @@ class VectorFigure:
     # ("path", path operators, style operators, (fill alpha, stroke alpha), paint operator, clip)
     # | ("image", x, y, w, h, png, clip); clip is a path in operators, or None
     ops: tuple
+    smallest_text: float = float("inf")  # pt at scale 1: the smallest type size drawn (as glyph outlines)
 
     def draw(self, canvas: Canvas, x: float, y: float, scale: float = 1.0) -> None:
         """Replay onto ``canvas`` at (x, y); operators go in as literals, styles only where they change."""
@@ -296,6 +297,7 @@ class Recorder(RendererBase):
         self.bulk = bulk  # False: every collection member goes through draw_path (the reference route)
         self.ops: list = []
         self._clip_cache: dict = {}
+        self.smallest_text = float("inf")
 
     # -- what RendererBase needs from a backend ------------------------------
     def get_canvas_width_height(self):
@@ -383,6 +385,12 @@ class Recorder(RendererBase):
             if codes[i]:
                 self.ops.append(("path", codes[i], *styles[i][0], clip))
 
+    def draw_text(self, gc, x, y, s, prop, angle, ismath=False, mtext=None):
+        # text becomes glyph outlines (RendererBase); its size is noted so the page can keep it legible
+        if s and s.strip():
+            self.smallest_text = min(self.smallest_text, float(prop.get_size_in_points()))
+        super().draw_text(gc, x, y, s, prop, angle, ismath=ismath, mtext=mtext)
+
     def draw_image(self, gc, x, y, im, transform=None):
         from PIL import Image
 
@@ -403,11 +411,19 @@ def record(figure: Figure, bulk: bool = True) -> VectorFigure:
         figure.draw(recorder)
     finally:
         figure.set_dpi(dpi)
-    return VectorFigure(round(float(width), 3), round(float(height), 3), tuple(merge_strokes(recorder.ops)))
+    return VectorFigure(round(float(width), 3), round(float(height), 3), tuple(merge_strokes(recorder.ops)),
+                        recorder.smallest_text)
+
+
+SMALLEST_PRINTED_TEXT = 6.0  # pt: no figure text is printed smaller
 
 
 class VectorFlowable(Flowable):
-    """A recorded figure scaled to fit the frame width (and a height limit), centred."""
+    """A recorded figure scaled to fit the frame width (and a height limit), centred.
+
+    The scale never prints the figure's smallest text under SMALLEST_PRINTED_TEXT while the frame can
+    hold it larger: a figure that would need shrinking further than that takes more of the page height
+    (up to the whole frame) instead. ``printed_text`` is the smallest type size as printed."""
 
     def __init__(self, figure: VectorFigure, max_width: float | None = None, max_height: float | None = None):
         super().__init__()
@@ -416,10 +432,17 @@ class VectorFlowable(Flowable):
         self.max_height = max_height
         self.scale = 1.0
 
+    @property
+    def printed_text(self) -> float:
+        return getattr(self.figure, "smallest_text", float("inf")) * self.scale
+
     def wrap(self, avail_width, avail_height):
         limit_w = min(avail_width, self.max_width or avail_width)
         limit_h = self.max_height or avail_height
         self.scale = min(limit_w / self.figure.width, limit_h / self.figure.height)
+        legible = SMALLEST_PRINTED_TEXT / getattr(self.figure, "smallest_text", float("inf"))
+        if self.scale < legible:  # grow into the rest of the frame's height, never past the frame
+            self.scale = max(self.scale, min(legible, limit_w / self.figure.width, avail_height / self.figure.height))
         self._avail_width = avail_width
         self.width = avail_width
         self.height = self.figure.height * self.scale

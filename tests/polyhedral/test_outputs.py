@@ -11,6 +11,7 @@ from sheets.export.meshes import cells_mesh, obj_text, write_mesh
 from sheets.reciprocal.cells import node_cells
 from sheets.render.cells3d import cell_gallery_figure, node_cells_figure
 from sheets.render.minkowski import minkowski_figure
+from sheets.render.palette import COMPRESSION, TENSION
 
 from polyhedral_frames import tripod_frame
 
@@ -36,8 +37,8 @@ def test_2d_figures_are_deterministic(frame, tmp_path):
         b = make(analysis, "P", tmp_path / f"{make.__name__}_b.png")
         assert a.read_bytes() == b.read_bytes()
         assert a.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
-    assert _has_colour(tmp_path / "minkowski_figure_a.png", "#009E73")  # tension pieces
-    assert _has_colour(tmp_path / "minkowski_figure_a.png", "#D55E00", tol=60)  # compression pieces
+    assert _has_colour(tmp_path / "minkowski_figure_a.png", TENSION)  # tension pieces
+    assert _has_colour(tmp_path / "minkowski_figure_a.png", COMPRESSION, tol=60)  # compression pieces
     svg = minkowski_figure(analysis, "P", tmp_path / "view.svg")
     assert b"<svg" in svg.read_bytes()
     assert not list(tmp_path.glob(".*.part*"))  # no temporary files left behind
@@ -49,7 +50,7 @@ def test_3d_figures_render_off_screen(frame, tmp_path):
     for make in (node_cells_figure, minkowski_figure, cell_gallery_figure):
         out = make(analysis, sid, tmp_path / f"{make.__name__}.png")
         assert out.stat().st_size > 10_000
-    assert _has_colour(tmp_path / "minkowski_figure.png", "#D55E00", tol=90)
+    assert _has_colour(tmp_path / "minkowski_figure.png", COMPRESSION, tol=90)
 
 
 def test_meshes_carry_ids_and_areas(frame, tmp_path):

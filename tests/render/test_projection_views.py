@@ -82,8 +82,9 @@ def test_a_projected_force_diagram_says_so_and_labels_true_forces(truss, tmp_pat
     diagram2d.form_force_figure(diagram, tmp_path / "d.png", labels_up_to=120)
     fig = captured[0]
     form, force = fig.axes[:2]
-    assert "projection onto the x-y plane" in form.get_title()
-    assert "projection onto the x-y plane" in force.get_title() and "true force" in force.get_title()
+    titles = [t.get_text() for t in fig.texts if t.get_text().startswith(("Form diagram", "Force diagram"))]
+    assert len(titles) == 2 and all("projection onto the x-y plane" in t for t in titles)
+    assert "true force" in titles[1]
     factor = project.units.factor("force")
     forces = dict(zip(project.member_ids, np.asarray(analysis.state("G").forces) / factor))
     labelled = {}

@@ -40,6 +40,42 @@ def solve(path: str | Path, progress: Progress | None = None) -> Analysis:
     return analyse(project, progress)
 
 
+def import_drawing(drawing: str | Path, project_path: str | Path, member_layers=(), support_layers=None,
+                   dimension: int | None = None, unit: str | None = None, snap: float | None = None):
+    """Read a frame drawn in CAD (DXF) and write it as a new project file for the user to complete.
+
+    The file is written only if it loads back as a project, and never over an existing file
+    (a hard link from a finished temporary file makes the new name appear whole or not at all).
+    Returns the DrawnFrame read.
+    """
+    from sheets.errors import Problem, ProjectError
+    from sheets.export.project_toml import frame_project_toml
+    from sheets.model.from_dxf import read_dxf_frame
+
+    target = Path(project_path)
+    if target.exists():
+        raise ProjectError([Problem(str(target), "", "the project file exists already; import never writes over a file",
+                                    "name a new file with --out")])
+    frame = read_dxf_frame(drawing, member_layers, support_layers, dimension, unit, snap)
+    text = frame_project_toml(frame, Path(drawing).stem.replace("_", " "))
+    target.parent.mkdir(parents=True, exist_ok=True)
+    fd, name = tempfile.mkstemp(prefix=f".{target.stem}.", suffix=".part.toml", dir=target.parent)
+    tmp = Path(name)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8") as stream:
+            stream.write(text)
+        os.chmod(tmp, 0o644)
+        load_project(tmp)  # what is written must load: a failure here is a fault of this reader
+        try:
+            os.link(tmp, target)
+        except FileExistsError:
+            raise ProjectError([Problem(str(target), "", "the project file appeared while the drawing was read",
+                                        "name a new file with --out")]) from None
+    finally:
+        tmp.unlink(missing_ok=True)
+    return frame
+
+
 DIAGRAM_DETAIL_NODES = 500  # above this many nodes the results carry cell summaries, not every face
 
 
@@ -223,7 +259,8 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     Per state, into ``out_dir`` (default ``<project folder>/out/<project stem>/diagrams/``):
     ``<state>-diagrams.<fmt>`` (form and force side by side), ``<state>-closure.<fmt>`` (the
     verification), for a 3D frame ``<state>-views.png`` (pyvista views), and on request
-    ``<state>.dxf`` and ``<state>.diagram.json`` (schema sheets.diagram/1). ``on_state(i, n, id)``
+    ``<state>.dxf`` and ``<state>.diagram.json`` (schema sheets.diagram/1); with ``dxf`` also
+    ``frame.dxf``, the frame alone for CAD (read back by ``sheets import``). ``on_state(i, n, id)``
     is called before each state is drawn.
     """
     from sheets.errors import Problem, ProjectError
@@ -248,6 +285,10 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     out = Path(out_dir) if out_dir is not None else default_out_dir(source) / "diagrams"
     files: list[Path] = []
     drawn: list[DrawnState] = []
+    if dxf:
+        from sheets.export.dxf import frame_dxf
+
+        files.append(write_atomic(out / "frame.dxf", frame_dxf(project)))
     for i, sid in enumerate(wanted):
         if on_state is not None:
             on_state(i, len(wanted), sid)

@@ -17,7 +17,7 @@ from rich.progress import BarColumn, Progress, SpinnerColumn, TextColumn, TimeEl
 from rich.table import Table
 
 from sheets import __version__, build
-from sheets.errors import EXIT_CHECK_FAILED, EXIT_OK, MechanismError, ProjectError
+from sheets.errors import EXIT_BAD_INPUT, EXIT_CHECK_FAILED, EXIT_OK, MechanismError, ProjectError
 
 TOP_N = 25  # rows shown per table on screen; the CSV files carry all of them
 
@@ -67,6 +67,20 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("project", help="the project file (.toml)")
     p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>/)")
     p.set_defaults(run=_build)
+
+    p = sub.add_parser("import", help="read a frame drawn in CAD (DXF) into a new project file to complete")
+    p.add_argument("drawing", help="the drawing (.dxf)")
+    p.add_argument("--out", metavar="FILE", required=True, help="the project file to write (must not exist)")
+    p.add_argument("--member-layer", metavar="LAYER", action="append", default=[], dest="member_layers",
+                   help="a layer whose lines are members (repeat for more; default: every layer but the support layers)")
+    p.add_argument("--support-layer", metavar="LAYER=AXES", action="append", default=[], dest="support_layers",
+                   help="a layer whose points or blocks are supports fixing AXES, e.g. pins=xyz (repeat for more; "
+                        "default: layers named ...supports-<axes>)")
+    p.add_argument("--dimension", type=int, choices=(2, 3), help="2 or 3 (default: 2 when every line lies at one z)")
+    p.add_argument("--unit", metavar="UNIT", help="the drawing's length unit when it does not state one (m, mm, cm, in, ft)")
+    p.add_argument("--snap", type=float, metavar="DISTANCE",
+                   help="ends closer than this (drawing units) are one node (default: a millionth of the drawing's size)")
+    p.set_defaults(run=_import)
     return parser
 
 
@@ -230,6 +244,23 @@ def _draw(args) -> int:
     if not result.passed:
         err.print("[red]A force diagram does not close: the analysed forces are not in equilibrium to the tolerance.[/red]")
         return EXIT_CHECK_FAILED
+    return EXIT_OK
+
+
+def _import(args) -> int:
+    layers = {}
+    for spec in args.support_layers:
+        layer, sep, axes = spec.rpartition("=")
+        if not sep or not layer:
+            err.print(f"--support-layer takes LAYER=AXES, e.g. pins=xyz; got '{spec}'", markup=False)
+            return EXIT_BAD_INPUT
+        layers[layer] = axes.lower()
+    frame = build.import_drawing(args.drawing, args.out, args.member_layers, layers, args.dimension, args.unit, args.snap)
+    out.print(f"wrote {args.out}: {frame.dim}D, {len(frame.node_ids)} nodes, {len(frame.member_ids)} members, "
+              f"{len(frame.supports)} supported nodes (drawing in {frame.unit})", markup=False)
+    for note in frame.notes:
+        out.print(f"  {note}", markup=False)
+    out.print("Add sections, materials and loads before solving (docs/project-file.md).", markup=False)
     return EXIT_OK
 
 

@@ -76,6 +76,37 @@ def import_drawing(drawing: str | Path, project_path: str | Path, member_layers=
     return frame
 
 
+def results_of(path: str | Path, progress: Progress | None = None) -> dict[str, Any]:
+    """The results document of a revision: a results JSON file as it is, or a project file solved now."""
+    from sheets.errors import Problem, ProjectError
+    from sheets.export.results import results_document
+
+    source = Path(path)
+    if source.suffix.lower() != ".json":
+        analysis = solve(source, progress)
+        return results_document(analysis, result_sections(analysis))
+    try:
+        doc = json.loads(source.read_text(encoding="utf-8"))
+    except OSError as exc:
+        raise ProjectError([Problem(str(source), "", f"cannot read the results: {exc.strerror or exc}", "check the path")]) from None
+    except (UnicodeDecodeError, ValueError) as exc:
+        raise ProjectError([Problem(str(source), "", f"not a JSON results document: {exc}",
+                                    "give a results.json written by sheets, or a project file")]) from None
+    if not isinstance(doc, dict) or doc.get("schema") != "sheets.results/1":
+        found = doc.get("schema") if isinstance(doc, dict) else type(doc).__name__
+        raise ProjectError([Problem(str(source), "schema", f"not a results document of schema sheets.results/1 (found {found!r})",
+                                    "give a results.json written by sheets, or a project file")])
+    return doc
+
+
+def compare_revisions(old: str | Path, new: str | Path, force_change: float = 0.01, utilisation_change: float = 0.01,
+                      progress: Progress | None = None):
+    """What changed from revision ``old`` to ``new`` (each a project file or a results JSON)."""
+    from sheets.revision.compare import compare_results
+
+    return compare_results(results_of(old, progress), results_of(new, progress), force_change, utilisation_change)
+
+
 DIAGRAM_DETAIL_NODES = 500  # above this many nodes the results carry cell summaries, not every face
 
 

@@ -68,6 +68,16 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>/)")
     p.set_defaults(run=_build)
 
+    p = sub.add_parser("diff", help="list what changed between two revisions (project files or results JSON)")
+    p.add_argument("old", help="the earlier revision: a project file or its results.json")
+    p.add_argument("new", help="the later revision: a project file or its results.json")
+    p.add_argument("--force-change", type=float, default=0.01, metavar="FRACTION",
+                   help="a member force counts as changed beyond this fraction of the state's largest force (default 0.01)")
+    p.add_argument("--utilisation-change", type=float, default=0.01, metavar="AMOUNT",
+                   help="a utilisation counts as changed beyond this (default 0.01)")
+    p.add_argument("--json", metavar="FILE", help="also write the comparison (schema sheets.comparison/1) here")
+    p.set_defaults(run=_diff)
+
     p = sub.add_parser("import", help="read a frame drawn in CAD (DXF) into a new project file to complete")
     p.add_argument("drawing", help="the drawing (.dxf)")
     p.add_argument("--out", metavar="FILE", required=True, help="the project file to write (must not exist)")
@@ -244,6 +254,41 @@ def _draw(args) -> int:
     if not result.passed:
         err.print("[red]A force diagram does not close: the analysed forces are not in equilibrium to the tolerance.[/red]")
         return EXIT_CHECK_FAILED
+    return EXIT_OK
+
+
+def _diff(args) -> int:
+    import json
+
+    from sheets.export.atomic import write_atomic
+    from sheets.revision.compare import comparison_document, display_value
+
+    with progress_notes() as note:
+        c = build.compare_revisions(args.old, args.new, args.force_change, args.utilisation_change, note)
+    out.print(f"from {c.old}\n  to {c.new}", markup=False)
+    if c.empty:
+        out.print("No change in geometry, loads, states, member forces, utilisations or determinacy.")
+    t = Table(title="Changes")
+    for col in ("change", "item", "state", "old", "new"):
+        t.add_column(col)
+
+    def text(value, kind: str) -> str:
+        value = display_value(value, kind, c.units)
+        unit = f" {c.units[kind]}" if kind else ""
+        if isinstance(value, float):
+            return f"{value:.6g}{unit}"
+        if isinstance(value, list):
+            return "[" + ", ".join(f"{v:.6g}" for v in value) + "]" + unit
+        return "" if value is None else str(value)
+
+    for change in c.geometry + c.states + c.loads + c.determinacy + c.forces + c.utilisations:
+        t.add_row(change.what, change.item, change.state, text(change.old, change.kind), text(change.new, change.kind))
+    if t.row_count:
+        out.print(t)
+    out.print(f"members changed: {len(c.changed_members)}", markup=False)
+    if args.json:
+        path = write_atomic(args.json, json.dumps(comparison_document(c), indent=1, sort_keys=True) + "\n")
+        out.print(f"wrote {path}", markup=False)
     return EXIT_OK
 
 

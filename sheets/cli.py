@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import sys
 from contextlib import contextmanager
+from pathlib import Path
 from typing import Iterator, Sequence
 
 import numpy as np
@@ -17,9 +18,10 @@ from rich.progress import BarColumn, Progress, SpinnerColumn, TextColumn, TimeEl
 from rich.table import Table
 
 from sheets import __version__, build
-from sheets.errors import EXIT_BAD_INPUT, EXIT_CHECK_FAILED, EXIT_OK, MechanismError, ProjectError
+from sheets.errors import EXIT_BAD_INPUT, EXIT_BATCH_FAILURES, EXIT_CHECK_FAILED, EXIT_OK, MechanismError, ProjectError
 
 TOP_N = 25  # rows shown per table on screen; the CSV files carry all of them
+MAX_REPORT_LINES = 12  # of a failed build's own messages, in a batch report
 
 out = Console(highlight=False)
 err = Console(stderr=True, highlight=False)
@@ -77,6 +79,13 @@ def _parser() -> argparse.ArgumentParser:
                    help="a utilisation counts as changed beyond this (default 0.01)")
     p.add_argument("--json", metavar="FILE", help="also write the comparison (schema sheets.comparison/1) here")
     p.set_defaults(run=_diff)
+
+    p = sub.add_parser("batch", help="build the sheet sets of many projects, going on past failures")
+    p.add_argument("paths", nargs="+", metavar="PATH", help="project files, or folders searched for *.toml")
+    p.add_argument("--jobs", type=int, default=1, metavar="N", help="builds run at the same time on this machine (default 1)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run on an existing Dask distributed cluster, e.g. tcp://host:8786 (workers must see the same paths)")
+    p.set_defaults(run=_batch)
 
     p = sub.add_parser("import", help="read a frame drawn in CAD (DXF) into a new project file to complete")
     p.add_argument("drawing", help="the drawing (.dxf)")
@@ -290,6 +299,27 @@ def _diff(args) -> int:
         path = write_atomic(args.json, json.dumps(comparison_document(c), indent=1, sort_keys=True) + "\n")
         out.print(f"wrote {path}", markup=False)
     return EXIT_OK
+
+
+def _batch(args) -> int:
+    from sheets.batch import project_files, run_batch
+
+    projects = project_files(args.paths)
+    with progress_bar("building") as (bar, task):
+        bar.update(task, total=len(projects), completed=0)
+
+        def done(outcome, k: int, total: int) -> None:
+            bar.update(task, completed=k, description=Path(outcome.project).name)
+            bar.console.print(f"{k}/{total} {outcome.project}: exit {outcome.exit_code} ({outcome.seconds:.1f} s)", markup=False)
+
+        outcomes = run_batch(projects, args.jobs, args.scheduler, done)
+    failed = [o for o in outcomes if not o.ok]
+    out.print(f"{len(outcomes) - len(failed)} of {len(outcomes)} projects built cleanly.", markup=False)
+    for o in failed:  # plain lines, not a table: paths and messages are long and must stay whole
+        out.print(f"did not build cleanly (exit {o.exit_code}): {o.project}", markup=False, soft_wrap=True)
+        for line in o.output.splitlines()[-MAX_REPORT_LINES:]:
+            out.print(f"    {line}", markup=False, soft_wrap=True)
+    return EXIT_BATCH_FAILURES if failed else EXIT_OK
 
 
 def _import(args) -> int:

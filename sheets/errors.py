@@ -9,6 +9,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 EXIT_OK = 0
+EXIT_BATCH_FAILURES = 1  # sheets batch: one or more projects did not build cleanly (each is reported)
 EXIT_BAD_INPUT = 2
 EXIT_MECHANISM = 3
 EXIT_CHECK_FAILED = 4

@@ -33,10 +33,6 @@ class BuildOutcome:
     seconds: float
     output: str  # what the build printed (stdout then stderr), for the report
 
-    @property
-    def ok(self) -> bool:
-        return self.exit_code == 0
-
 
 def project_files(paths: Iterable[str | Path]) -> list[Path]:
     """The project files named: files as given, folders searched for *.toml (outputs, templates and hidden folders left out)."""

@@ -313,13 +313,19 @@ def _batch(args) -> int:
             bar.console.print(f"{k}/{total} {outcome.project}: exit {outcome.exit_code} ({outcome.seconds:.1f} s)", markup=False)
 
         outcomes = run_batch(projects, args.jobs, args.scheduler, done)
-    failed = [o for o in outcomes if not o.ok]
-    out.print(f"{len(outcomes) - len(failed)} of {len(outcomes)} projects built cleanly.", markup=False)
+    failed = [o for o in outcomes if o.exit_code not in (EXIT_OK, EXIT_DESIGN_FLAGS)]
+    flagged = [o for o in outcomes if o.exit_code == EXIT_DESIGN_FLAGS]
+    out.print(f"{len(outcomes) - len(failed)} of {len(outcomes)} projects built"
+              + (f", {len(flagged)} of them with design flags (exit 5: see each cover)" if flagged else "") + ".", markup=False)
+    for o in flagged:
+        out.print(f"built, with design flags: {o.project}", markup=False, soft_wrap=True)
     for o in failed:  # plain lines, not a table: paths and messages are long and must stay whole
-        out.print(f"did not build cleanly (exit {o.exit_code}): {o.project}", markup=False, soft_wrap=True)
+        out.print(f"not built (exit {o.exit_code}): {o.project}", markup=False, soft_wrap=True)
         for line in o.output.splitlines()[-MAX_REPORT_LINES:]:
             out.print(f"    {line}", markup=False, soft_wrap=True)
-    return EXIT_BATCH_FAILURES if failed else EXIT_OK
+    if failed:
+        return EXIT_BATCH_FAILURES
+    return EXIT_DESIGN_FLAGS if flagged else EXIT_OK
 
 
 def _import(args) -> int:

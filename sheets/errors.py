@@ -9,10 +9,10 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 EXIT_OK = 0
-EXIT_BATCH_FAILURES = 1  # sheets batch: one or more projects did not build cleanly (each is reported)
 EXIT_BAD_INPUT = 2
 EXIT_MECHANISM = 3
 EXIT_CHECK_FAILED = 4
+EXIT_BATCH_FAILURES = 6  # sheets batch: one or more projects could not be built (each is reported)
 
 
 @dataclass(frozen=True)

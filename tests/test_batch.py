@@ -40,10 +40,10 @@ def test_folders_are_searched_and_outputs_left_out(tmp_path):
 def test_a_broken_project_is_reported_and_the_rest_are_built(tmp_path, capsys):
     folder = tmp_path / "v"
     _variants(folder)
-    assert main(["batch", str(folder), "--jobs", "2"]) == 1
+    assert main(["batch", str(folder), "--jobs", "2"]) == 6
     captured = capsys.readouterr()
     text = " ".join(captured.out.split())
-    assert "2 of 3 projects built cleanly" in text
+    assert "2 of 3 projects built" in text
     assert "broken.toml" in text and "L9" in text  # the failure, with the build's own message
     for name in ("roof_a", "roof_b"):
         assert (folder / "out" / name / f"{name}.pdf").is_file()
@@ -60,7 +60,8 @@ def test_a_dask_cluster_gives_the_same_sets_as_the_local_run(tmp_path):
     here = run_batch(project_files([local]), jobs=1)
     with distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=True, dashboard_address=None) as cluster:
         there = run_batch(project_files([remote]), scheduler=cluster.scheduler_address)
-    assert [o.exit_code for o in here] == [o.exit_code for o in there] == [0]
+    assert [o.exit_code for o in here] == [o.exit_code for o in there]
+    assert here[0].exit_code in (0, 5), here[0].output  # 5: built, with design flags on the cover
     assert _set_files(local / "out" / "roof") == _set_files(remote / "out" / "roof") != {}
 
 

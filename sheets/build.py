@@ -54,6 +54,73 @@ def solve(path: str | Path, progress: Progress | None = None) -> Analysis:
     return analyse(project, progress)
 
 
+def import_drawing(drawing: str | Path, project_path: str | Path, member_layers=(), support_layers=None,
+                   dimension: int | None = None, unit: str | None = None, snap: float | None = None):
+    """Read a frame drawn in CAD (DXF) and write it as a new project file for the user to complete.
+
+    The file is written only if it loads back as a project, and never over an existing file
+    (a hard link from a finished temporary file makes the new name appear whole or not at all).
+    Returns the DrawnFrame read.
+    """
+    from sheets.errors import Problem, ProjectError
+    from sheets.export.project_toml import frame_project_toml
+    from sheets.model.from_dxf import read_dxf_frame
+
+    target = Path(project_path)
+    if target.exists():
+        raise ProjectError([Problem(str(target), "", "the project file exists already; import never writes over a file",
+                                    "name a new file with --out")])
+    frame = read_dxf_frame(drawing, member_layers, support_layers, dimension, unit, snap)
+    text = frame_project_toml(frame, Path(drawing).stem.replace("_", " "))
+    target.parent.mkdir(parents=True, exist_ok=True)
+    fd, name = tempfile.mkstemp(prefix=f".{target.stem}.", suffix=".part.toml", dir=target.parent)
+    tmp = Path(name)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8") as stream:
+            stream.write(text)
+        os.chmod(tmp, 0o644)
+        load_project(tmp)  # what is written must load: a failure here is a fault of this reader
+        try:
+            os.link(tmp, target)
+        except FileExistsError:
+            raise ProjectError([Problem(str(target), "", "the project file appeared while the drawing was read",
+                                        "name a new file with --out")]) from None
+    finally:
+        tmp.unlink(missing_ok=True)
+    return frame
+
+
+def results_of(path: str | Path, progress: Progress | None = None) -> dict[str, Any]:
+    """The results document of a revision: a results JSON file as it is, or a project file solved now."""
+    from sheets.errors import Problem, ProjectError
+    from sheets.export.results import results_document
+
+    source = Path(path)
+    if source.suffix.lower() != ".json":
+        analysis = solve(source, progress)
+        return results_document(analysis, result_sections(analysis))
+    try:
+        doc = json.loads(source.read_text(encoding="utf-8"))
+    except OSError as exc:
+        raise ProjectError([Problem(str(source), "", f"cannot read the results: {exc.strerror or exc}", "check the path")]) from None
+    except (UnicodeDecodeError, ValueError) as exc:
+        raise ProjectError([Problem(str(source), "", f"not a JSON results document: {exc}",
+                                    "give a results.json written by sheets, or a project file")]) from None
+    if not isinstance(doc, dict) or doc.get("schema") != "sheets.results/1":
+        found = doc.get("schema") if isinstance(doc, dict) else type(doc).__name__
+        raise ProjectError([Problem(str(source), "schema", f"not a results document of schema sheets.results/1 (found {found!r})",
+                                    "give a results.json written by sheets, or a project file")])
+    return doc
+
+
+def compare_revisions(old: str | Path, new: str | Path, force_change: float = 0.01, utilisation_change: float = 0.01,
+                      progress: Progress | None = None):
+    """What changed from revision ``old`` to ``new`` (each a project file or a results JSON)."""
+    from sheets.revision.compare import compare_results
+
+    return compare_results(results_of(old, progress), results_of(new, progress), force_change, utilisation_change)
+
+
 DIAGRAM_DETAIL_NODES = 500  # above this many nodes the results carry cell summaries, not every face
 
 
@@ -245,7 +312,8 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
     Per state, into ``out_dir`` (default ``<project folder>/out/<project stem>-diagrams/``):
     ``<state>-diagrams.<fmt>`` (form and force side by side), ``<state>-closure.<fmt>`` (the
     verification), for a 3D frame ``<state>-views.png`` (pyvista views), and on request
-    ``<state>.dxf`` and ``<state>.diagram.json`` (schema sheets.diagram/1). ``on_state(i, n, id)``
+    ``<state>.dxf`` and ``<state>.diagram.json`` (schema sheets.diagram/1); with ``dxf`` also
+    ``frame.dxf``, the frame alone for CAD (read back by ``sheets import``). ``on_state(i, n, id)``
     is called before each state is drawn.
     """
     from sheets.errors import Problem, ProjectError
@@ -275,6 +343,10 @@ def draw_project(path: str | Path, out_dir: str | Path | None = None, state_ids=
                             for sid in unknown])
     files: list[Path] = []
     drawn: list[DrawnState] = []
+    if dxf:
+        from sheets.export.dxf import frame_dxf
+
+        files.append(write_atomic(out / "frame.dxf", frame_dxf(project)))
     for i, sid in enumerate(wanted):
         if on_state is not None:
             on_state(i, len(wanted), sid)

@@ -23,6 +23,7 @@ import signal
 import sys
 import threading
 from contextlib import contextmanager
+from pathlib import Path
 from typing import Iterator, Sequence
 
 from rich.console import Console
@@ -31,7 +32,8 @@ from rich.progress import BarColumn, Progress, SpinnerColumn, TextColumn, TimeEl
 from rich.table import Table
 
 from sheets import __version__
-from sheets.errors import EXIT_CHECK_FAILED, EXIT_DESIGN_FLAGS, EXIT_OK, MechanismError, OutputError, ProjectError
+from sheets.errors import (EXIT_BAD_INPUT, EXIT_BATCH_FAILURES, EXIT_CHECK_FAILED, EXIT_DESIGN_FLAGS, EXIT_OK, MechanismError,
+                           OutputError, ProjectError)
 from sheets.render import DRAW_FORMATS
 
 
@@ -50,6 +52,7 @@ build = _OnFirstUse("sheets.build")
 np = _OnFirstUse("numpy")
 
 TOP_N = 25  # rows shown per table on screen; the CSV files carry all of them
+MAX_REPORT_LINES = 12  # of a failed build's own messages, in a batch report
 
 out = Console(highlight=False, emoji=False)
 err = Console(stderr=True, highlight=False, emoji=False)
@@ -98,6 +101,37 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("project", help="the project file (.toml)")
     p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>/)")
     p.set_defaults(run=_build)
+
+    p = sub.add_parser("diff", help="list what changed between two revisions (project files or results JSON)")
+    p.add_argument("old", help="the earlier revision: a project file or its results.json")
+    p.add_argument("new", help="the later revision: a project file or its results.json")
+    p.add_argument("--force-change", type=float, default=0.01, metavar="FRACTION",
+                   help="a member force counts as changed beyond this fraction of the state's largest force (default 0.01)")
+    p.add_argument("--utilisation-change", type=float, default=0.01, metavar="AMOUNT",
+                   help="a utilisation counts as changed beyond this (default 0.01)")
+    p.add_argument("--json", metavar="FILE", help="also write the comparison (schema sheets.comparison/1) here")
+    p.set_defaults(run=_diff)
+
+    p = sub.add_parser("batch", help="build the sheet sets of many projects, going on past failures")
+    p.add_argument("paths", nargs="+", metavar="PATH", help="project files, or folders searched for *.toml")
+    p.add_argument("--jobs", type=int, default=1, metavar="N", help="builds run at the same time on this machine (default 1)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run on an existing Dask distributed cluster, e.g. tcp://host:8786 (workers must see the same paths)")
+    p.set_defaults(run=_batch)
+
+    p = sub.add_parser("import", help="read a frame drawn in CAD (DXF) into a new project file to complete")
+    p.add_argument("drawing", help="the drawing (.dxf)")
+    p.add_argument("--out", metavar="FILE", required=True, help="the project file to write (must not exist)")
+    p.add_argument("--member-layer", metavar="LAYER", action="append", default=[], dest="member_layers",
+                   help="a layer whose lines are members (repeat for more; default: every layer but the support layers)")
+    p.add_argument("--support-layer", metavar="LAYER=AXES", action="append", default=[], dest="support_layers",
+                   help="a layer whose points or blocks are supports fixing AXES, e.g. pins=xyz (repeat for more; "
+                        "default: layers named ...supports-<axes>)")
+    p.add_argument("--dimension", type=int, choices=(2, 3), help="2 or 3 (default: 2 when every line lies at one z)")
+    p.add_argument("--unit", metavar="UNIT", help="the drawing's length unit when it does not state one (m, mm, cm, in, ft)")
+    p.add_argument("--snap", type=float, metavar="DISTANCE",
+                   help="ends closer than this (drawing units) are one node (default: a millionth of the drawing's size)")
+    p.set_defaults(run=_import)
     return parser
 
 
@@ -334,6 +368,83 @@ def _stop_signals_unwind() -> Iterator[None]:
     finally:
         for sig, handler in previous.items():
             signal.signal(sig, handler)
+def _diff(args) -> int:
+    import json
+
+    from sheets.export.atomic import write_atomic
+    from sheets.revision.compare import comparison_document, display_value
+
+    with progress_notes() as note:
+        c = build.compare_revisions(args.old, args.new, args.force_change, args.utilisation_change, note)
+    out.print(f"from {c.old}\n  to {c.new}", markup=False)
+    if c.empty:
+        out.print("No change in geometry, loads, states, member forces, utilisations or determinacy.")
+    t = Table(title="Changes")
+    for col in ("change", "item", "state", "old", "new"):
+        t.add_column(col)
+
+    def text(value, kind: str) -> str:
+        value = display_value(value, kind, c.units)
+        unit = f" {c.units[kind]}" if kind else ""
+        if isinstance(value, float):
+            return f"{value:.6g}{unit}"
+        if isinstance(value, list):
+            return "[" + ", ".join(f"{v:.6g}" for v in value) + "]" + unit
+        return "" if value is None else str(value)
+
+    for change in c.geometry + c.states + c.loads + c.determinacy + c.forces + c.utilisations:
+        t.add_row(change.what, change.item, change.state, text(change.old, change.kind), text(change.new, change.kind))
+    if t.row_count:
+        out.print(t)
+    out.print(f"members changed: {len(c.changed_members)}", markup=False)
+    if args.json:
+        path = write_atomic(args.json, json.dumps(comparison_document(c), indent=1, sort_keys=True) + "\n")
+        out.print(f"wrote {path}", markup=False)
+    return EXIT_OK
+
+
+def _batch(args) -> int:
+    from sheets.batch import project_files, run_batch
+
+    projects = project_files(args.paths)
+    with progress_bar("building", "batch") as (bar, task):
+        bar.update(task, total=len(projects))
+
+        def done(outcome, k: int, total: int) -> None:  # one line per project, on a terminal or in a log
+            bar.update(task, completed=k)
+            say("batch", f"{k}/{total} {outcome.project}: exit {outcome.exit_code} ({outcome.seconds:.1f} s)")
+
+        outcomes = run_batch(projects, args.jobs, args.scheduler, done)
+    failed = [o for o in outcomes if o.exit_code not in (EXIT_OK, EXIT_DESIGN_FLAGS)]
+    flagged = [o for o in outcomes if o.exit_code == EXIT_DESIGN_FLAGS]
+    out.print(f"{len(outcomes) - len(failed)} of {len(outcomes)} projects built"
+              + (f", {len(flagged)} of them with design flags (exit 5: see each cover)" if flagged else "") + ".", markup=False)
+    for o in flagged:
+        out.print(f"built, with design flags: {o.project}", markup=False, soft_wrap=True)
+    for o in failed:  # plain lines, not a table: paths and messages are long and must stay whole
+        out.print(f"not built (exit {o.exit_code}): {o.project}", markup=False, soft_wrap=True)
+        for line in o.output.splitlines()[-MAX_REPORT_LINES:]:
+            out.print(f"    {line}", markup=False, soft_wrap=True)
+    if failed:
+        return EXIT_BATCH_FAILURES
+    return EXIT_DESIGN_FLAGS if flagged else EXIT_OK
+
+
+def _import(args) -> int:
+    layers = {}
+    for spec in args.support_layers:
+        layer, sep, axes = spec.rpartition("=")
+        if not sep or not layer:
+            err.print(f"--support-layer takes LAYER=AXES, e.g. pins=xyz; got '{spec}'", markup=False)
+            return EXIT_BAD_INPUT
+        layers[layer] = axes.lower()
+    frame = build.import_drawing(args.drawing, args.out, args.member_layers, layers, args.dimension, args.unit, args.snap)
+    out.print(f"wrote {args.out}: {frame.dim}D, {len(frame.node_ids)} nodes, {len(frame.member_ids)} members, "
+              f"{len(frame.supports)} supported nodes (drawing in {frame.unit})", markup=False)
+    for note in frame.notes:
+        out.print(f"  {note}", markup=False)
+    out.print("Add sections, materials and loads before solving (docs/project-file.md).", markup=False)
+    return EXIT_OK
 
 
 def main(argv: Sequence[str] | None = None) -> int:

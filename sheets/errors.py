@@ -15,6 +15,7 @@ EXIT_CHECK_FAILED = 4
 # the results are written; the design outcome has flags (members over utilisation 1, cables in
 # compression, struts in tension, uplift at supports, deflection over the limit). 4 wins over 5.
 EXIT_DESIGN_FLAGS = 5
+EXIT_BATCH_FAILURES = 6  # sheets batch: one or more projects could not be built (each is reported)
 
 
 @dataclass(frozen=True)

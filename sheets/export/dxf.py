@@ -97,6 +97,29 @@ def diagram_dxf(diagram: ForceDiagram) -> bytes:
         return stream.getvalue().encode(doc.output_encoding)
 
 
+def frame_dxf(project) -> bytes:
+    """The frame alone, for CAD exchange: members as lines at true size in metres on one layer per
+    group (``members`` for members with none), supports as points on ``supports-<axes>`` layers.
+    ``sheets import`` reads it back to the same frame."""
+    with _fixed_metadata():
+        doc = ezdxf.new("R2010", setup=False)
+        doc.units = ezdxf.units.M
+        msp = doc.modelspace()
+        for layer in sorted({g or "members" for g in project.member_groups}):
+            doc.layers.add(layer)
+        for (a, b), group in zip(project.ends.tolist(), project.member_groups):
+            msp.add_line(_xyz(project.coords[a]), _xyz(project.coords[b]), dxfattribs={"layer": group or "members"})
+        for n in np.flatnonzero(project.fixed.any(axis=1)).tolist():
+            axes = "".join(axis for axis, fixed in zip("xyz", project.fixed[n]) if fixed)
+            layer = f"supports-{axes}"
+            if layer not in doc.layers:
+                doc.layers.add(layer)
+            msp.add_point(_xyz(project.coords[n]), dxfattribs={"layer": layer})
+        stream = io.StringIO()
+        doc.write(stream)
+        return stream.getvalue().encode(doc.output_encoding)
+
+
 def write_diagram_dxf(diagram: ForceDiagram, path: str | Path) -> Path:
     """Write the diagram's DXF atomically; returns the path written."""
     return write_atomic(path, diagram_dxf(diagram))

@@ -1,0 +1,161 @@
+"""A cache of stage outputs, keyed by the content of exactly what each output depends on.
+
+A key is the SHA-256 of a canonical encoding of the inputs (numbers, strings,
+numpy arrays with their dtype and shape, tuples, mappings, frozen dataclasses),
+of the stage's name and of the package's own source code, so changed code never
+reads an old entry. An entry is written to a temporary file and renamed into place: an
+interrupted build leaves either the whole entry or none. An entry that cannot
+be read back (a damaged disk, a foreign file) counts as missing and is removed:
+the cache can only make a build faster, never change what it writes.
+
+The cache holds pickles of the project's own values; it lives beside the
+outputs (``.sheets-cache``), and only files it made itself are ever removed.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import hashlib
+import os
+import pickle
+import struct
+import tempfile
+from pathlib import Path
+from collections.abc import Mapping
+from functools import lru_cache
+from typing import Any, Callable, TypeVar
+
+import numpy as np
+
+from sheets import __version__
+
+T = TypeVar("T")
+ENTRY_SUFFIX = ".entry"
+PART_PREFIX = ".part-"
+
+
+def _encode(value: Any, out: "hashlib._Hash") -> None:
+    """Feed a canonical, type-tagged encoding of ``value`` to ``out``."""
+    if value is None or isinstance(value, bool):
+        out.update(b"N" if value is None else (b"T" if value else b"F"))
+    elif isinstance(value, (int, np.integer)):
+        out.update(b"i" + str(int(value)).encode() + b";")
+    elif isinstance(value, (float, np.floating)):
+        out.update(b"f" + struct.pack("<d", float(value)))
+    elif isinstance(value, str):
+        data = value.encode("utf-8")
+        out.update(b"s" + struct.pack("<Q", len(data)) + data)
+    elif isinstance(value, bytes):
+        out.update(b"b" + struct.pack("<Q", len(value)) + value)
+    elif isinstance(value, np.ndarray):
+        a = np.ascontiguousarray(value)
+        out.update(b"a" + a.dtype.str.encode() + repr(a.shape).encode())
+        out.update(a.tobytes())
+    elif isinstance(value, (list, tuple)):
+        out.update(b"(" + struct.pack("<Q", len(value)))
+        for item in value:
+            _encode(item, out)
+        out.update(b")")
+    elif isinstance(value, Mapping):
+        items = sorted(value.items(), key=lambda kv: repr(kv[0]))
+        out.update(b"{" + struct.pack("<Q", len(items)))
+        for k, v in items:
+            _encode(k, out)
+            _encode(v, out)
+        out.update(b"}")
+    elif isinstance(value, (set, frozenset)):
+        _encode(sorted(value, key=repr), out)
+    elif dataclasses.is_dataclass(value) and not isinstance(value, type):
+        out.update(b"D" + type(value).__qualname__.encode())
+        _encode({f.name: getattr(value, f.name) for f in dataclasses.fields(value)}, out)
+    else:
+        raise TypeError(f"cannot make a cache key of a {type(value).__name__}")
+
+
+@lru_cache(maxsize=1)
+def code_digest() -> str:
+    """SHA-256 of the package's own source: a changed stage must never be answered from the cache."""
+    digest = hashlib.sha256()
+    package = Path(__file__).resolve().parent
+    for path in sorted(package.rglob("*.py")):
+        digest.update(path.relative_to(package).as_posix().encode() + b"\0" + path.read_bytes() + b"\0")
+    return digest.hexdigest()
+
+
+def content_key(stage: str, *inputs: Any) -> str:
+    """The key of ``stage``'s output for these inputs (and this version of the code)."""
+    digest = hashlib.sha256()
+    _encode(("sheets", __version__, code_digest(), stage, inputs), digest)
+    return digest.hexdigest()
+
+
+class StageCache:
+    """Entries under ``folder/<stage>/<key>.entry``; ``None`` as the folder turns caching off."""
+
+    def __init__(self, folder: str | Path | None):
+        self.folder = Path(folder) if folder is not None else None
+        self.hits: list[str] = []
+        self.misses: list[str] = []
+
+    def _path(self, stage: str, key: str) -> Path:
+        return self.folder / stage / f"{key}{ENTRY_SUFFIX}"
+
+    def get_or_make(self, stage: str, inputs: tuple, make: Callable[[], T]) -> T:
+        """The cached output of ``stage`` for ``inputs``, or ``make()`` stored for next time."""
+        if self.folder is None:
+            return make()
+        key = content_key(stage, *inputs)
+        path = self._path(stage, key)
+        try:
+            with open(path, "rb") as stream:
+                value = pickle.load(stream)
+        except FileNotFoundError:
+            pass
+        except Exception:  # damaged or foreign: ours to drop (by its name and place), then made anew
+            path.unlink(missing_ok=True)
+        else:
+            self.hits.append(stage)
+            return value
+        self.misses.append(stage)
+        value = make()
+        self._put(path, value)
+        return value
+
+    def _put(self, path: Path, value: Any) -> None:
+        try:
+            path.parent.mkdir(parents=True, exist_ok=True)
+            fd, name = tempfile.mkstemp(prefix=PART_PREFIX, dir=path.parent)
+            try:
+                with os.fdopen(fd, "wb") as stream:
+                    pickle.dump(value, stream, protocol=pickle.HIGHEST_PROTOCOL)
+                os.replace(name, path)
+            finally:
+                if os.path.exists(name):
+                    os.unlink(name)
+        except OSError:
+            pass  # a cache that cannot be written only costs time; the build goes on
+
+    def prune(self, keep_bytes: int = 2 << 30) -> int:
+        """Remove the oldest-read entries beyond ``keep_bytes``, and parts left by killed builds; returns files removed."""
+        if self.folder is None or not self.folder.is_dir():
+            return 0
+        removed = 0
+        entries = []
+        for stage in self.folder.iterdir():
+            if not stage.is_dir():
+                continue
+            for path in stage.iterdir():
+                if path.name.startswith(PART_PREFIX) and path.is_file():
+                    path.unlink(missing_ok=True)
+                    removed += 1
+                elif path.suffix == ENTRY_SUFFIX and path.is_file():
+                    info = path.stat()
+                    entries.append((info.st_atime, info.st_size, path))
+        total = sum(size for _, size, _ in entries)
+        for _, size, path in sorted(entries):
+            if total <= keep_bytes:
+                break
+            path.unlink(missing_ok=True)
+            total -= size
+            removed += 1
+        return removed

@@ -1,0 +1,1 @@
+"""Revisions of a design: what changed between two of them."""

@@ -23,7 +23,6 @@ import signal
 import sys
 import threading
 from contextlib import contextmanager
-from pathlib import Path
 from typing import Iterator, Sequence
 
 from rich.console import Console

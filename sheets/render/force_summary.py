@@ -23,7 +23,7 @@ from matplotlib.figure import Figure
 from sheets.model.project import Project
 from sheets.render import palette
 from sheets.render.diagram2d import _add_lines
-from sheets.render.form_figure import FONT, PANEL_INCHES, _finish, _furniture, _layout, _supports
+from sheets.render.form_figure import FONT, _finish, _furniture, _layout, _supports
 
 CLASSES_PER_SIDE = 8  # colour classes on each side of zero: few enough to merge lines of one colour on the page
 MIDDLE = "#EEEEEE"  # zero force: light grey, fading into the page like a member that does nothing

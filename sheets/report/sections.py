@@ -20,7 +20,7 @@ from reportlab.platypus.tableofcontents import TableOfContents
 from sheets import __version__
 from sheets.analysis import Analysis
 from sheets.analysis.design_states import design_states
-from sheets.analysis.member_checks import CHECK_TITLES, MemberChecks, group_summaries
+from sheets.analysis.member_checks import MemberChecks, group_summaries
 from sheets.model.project import AXES
 from sheets.report.document import Heading
 from sheets.report.echo import basis_given, case_load_table, long_table, member_table, node_table
@@ -786,7 +786,6 @@ def issued_files(sheet: SheetSet, st: Styles) -> list:
 
 
 def cautions(sheet: SheetSet, st: Styles) -> list:
-    p = sheet.project
     a = sheet.analysis
     out: list = [heading("Cautions and limitations", st, 0, "cautions")]
     for text in sheet.template.cautions:

@@ -30,7 +30,7 @@ def long_table(sheet, st: Styles, header: list[str], rows: list[list], *, two_co
     widths = fit_widths(header, rows, (sheet.width - GAP) / 2, st, max(COMPACT_FONT, st.cell.fontSize - 1))
     kw = {k: v for k, v in kw.items() if k not in ("total_width", "widths")}
     number = st.numbering.next("Table")  # one number for every column and page the table runs over
-    return TwoColumnTable(lambda part: table(st, header, part, compact=True, widths=widths, number=number, **kw), rows,
+    return TwoColumnTable(lambda part: table(st, header, part, compact=True, widths=widths, number=number, whole=True, **kw), rows,
                           space_after=st.body.fontSize * 0.8)
 
 

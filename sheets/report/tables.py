@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 from reportlab.lib import colors
 from reportlab.lib.enums import TA_LEFT
 from reportlab.lib.styles import ParagraphStyle
-from reportlab.platypus import Paragraph, Table, TableStyle
+from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheets.report.fonts import Fonts
 
@@ -135,9 +135,33 @@ def escape(text: str) -> str:
     return str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
 
 
+CHUNK_ROWS = 250  # rows of one part of a long table (see ``PartedTable``)
+
+
+class PartedTable(Flowable):
+    """A long table given to the page layout as consecutive parts of CHUNK_ROWS rows, each with the caption
+    (marked 'continued') and header. reportlab splits one table at a page end by laying out all the rows
+    left again, so a table of n rows costs time growing as n squared (a 20,000-member frame took minutes);
+    parts keep it linear. Never drawn whole: the frame always splits it into its parts."""
+
+    def __init__(self, parts: list[Table]):
+        super().__init__()
+        self.parts = parts
+
+    def wrap(self, aW, aH):
+        return aW, aH + 1
+
+    def split(self, aW, aH):
+        return list(self.parts)
+
+    def draw(self):  # pragma: no cover - split, never drawn
+        pass
+
+
 def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[int] | None = None,
           widths: list[float] | None = None, highlight: list[int] | None = None, total_width: float | None = None,
-          repeat: bool = True, compact: bool = False, title: str = "", number: str | None = None) -> Table:
+          repeat: bool = True, compact: bool = False, title: str = "", number: str | None = None,
+          whole: bool = False) -> Flowable:
     """A numbered grid table ('Table N. title' above it) with a shaded header repeated on every page;
     ``numeric`` columns right-aligned.
 
@@ -145,11 +169,28 @@ def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[i
     number comes from ``styles.numbering``; text that refers to the table takes it first with
     ``styles.numbering.ahead("Table")``. A table set in parts (two columns a page) takes its number
     once and passes it as ``number``. ``compact`` sets a long table in smaller type with tighter
-    padding, so every row fits in fewer pages.
+    padding, so every row fits in fewer pages. Above CHUNK_ROWS rows the table is laid out in parts
+    (``PartedTable``) with one set of column widths, unless ``whole`` asks for one Table (for a caller
+    that measures and places the rows itself, as the two-column layout does).
     """
-    numeric = numeric or set()
     number = number or styles.numbering.next("Table")
     caption = f"{number}." + (f" {title}" if title else "")  # plain text: fits any column widths
+    if widths is None and total_width is not None:
+        widths = _auto_widths(header, rows, total_width)
+    if whole or len(rows) <= CHUNK_ROWS:
+        return _grid(styles, caption, header, rows, numeric or set(), widths, highlight or [], repeat, compact)
+    parts = []
+    for start in range(0, len(rows), CHUNK_ROWS):
+        marked = [r - start for r in highlight or [] if start <= r < start + CHUNK_ROWS]
+        parts.append(_grid(styles, caption if start == 0 else f"{number} (continued).", header, rows[start:start + CHUNK_ROWS],
+                           numeric or set(), widths, marked, repeat, compact))
+    for part in parts[:-1]:
+        part.spaceAfter = 0
+    return PartedTable(parts)
+
+
+def _grid(styles: Styles, caption: str, header: list[str], rows: list[list], numeric: set[int], widths, highlight: list[int],
+          repeat: bool, compact: bool) -> Table:
     cell, cell_head, pad = styles.cell, styles.cell_head, 1.5
     if compact:
         small = min(cell.fontSize, max(COMPACT_FONT, cell.fontSize - 1))
@@ -158,8 +199,6 @@ def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[i
         pad = 0.8
     head = [Paragraph(escape(h), cell_head) for h in header]
     body = [[Paragraph(escape(v), cell) if isinstance(v, str) and len(v) > 28 else v for v in row] for row in rows]
-    if widths is None and total_width is not None:
-        widths = _auto_widths(header, rows, total_width)
     # splitByRow: a table longer than the page continues on the next one, under its repeated caption and header
     t = Table([[caption] + [""] * (len(header) - 1), head] + body, colWidths=widths, repeatRows=2 if repeat else 0,
               hAlign="LEFT", splitByRow=1)
@@ -179,7 +218,7 @@ def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[i
     ]
     for c in sorted(numeric):
         commands.append(("ALIGN", (c, 2), (c, -1), "RIGHT"))
-    for r in highlight or []:
+    for r in highlight:
         commands.append(("BACKGROUND", (0, r + 2), (-1, r + 2), FAIL_FILL))
     t.setStyle(TableStyle(commands))
     t.spaceAfter = styles.body.fontSize * 0.8

@@ -152,7 +152,12 @@ class PartedTable(Flowable):
         return aW, aH + 1
 
     def split(self, aW, aH):
-        return list(self.parts)
+        # the page layout wants the first piece to fit where it stands: the first part whole, or split
+        first, rest = self.parts[0], list(self.parts[1:])
+        if first.wrap(aW, aH)[1] <= aH:
+            return [first] + rest
+        pieces = first.split(aW, aH)
+        return pieces + rest if pieces else []
 
     def draw(self):  # pragma: no cover - split, never drawn
         pass

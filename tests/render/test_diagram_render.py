@@ -77,7 +77,7 @@ def test_sheets_draw_command(tmp_path):
                  "--format", "svg", "--dxf", "--diagram-json"])
     assert code == 0
     names = sorted(p.name for p in tmp_path.iterdir())
-    assert names == ["ULS-1-closure.svg", "ULS-1-diagrams.svg", "ULS-1.diagram.json", "ULS-1.dxf"]
+    assert names == ["ULS-1-closure.svg", "ULS-1-diagrams.svg", "ULS-1.diagram.json", "ULS-1.dxf", "frame.dxf"]
 
 
 def test_sheets_draw_refuses_an_unknown_case(tmp_path):

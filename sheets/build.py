@@ -210,6 +210,7 @@ class SheetBuild:
     outcome: Any = None  # the design outcome (sheets.analysis.outcome.DesignOutcome)
     outcome_units: Any = None  # the project's display units, to print the outcome in
     kept: tuple[str, ...] = ()  # older sets left in place because they hold files sheets did not write
+    stages: str = ""  # what this build made and what it reused from the stage cache (StageCache.summary)
 
 
 def default_out_dir(project_path: str | Path) -> Path:
@@ -218,7 +219,12 @@ def default_out_dir(project_path: str | Path) -> Path:
     return path.parent / "out" / path.stem
 
 
-def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: Progress | None = None) -> SheetBuild:
+CACHE_FOLDER = "cache"  # in the set's own area (.sheets-sets/<name>/), under the build's lock
+CACHE_BYTES = 1 << 30  # the oldest-read entries beyond this are removed after each build
+
+
+def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: Progress | None = None,
+                 force: bool = False) -> SheetBuild:
     """The whole chain: load -> analyse -> member checks -> diagrams and figures -> results -> PDF, into ``out_dir``.
 
     Writes <out>/<project stem>.pdf, <out>/results.json, <out>/csv/*.csv, <out>/figures/* and
@@ -227,9 +233,16 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     set). The set is written into a staging folder and published in one atomic switch of ``out``
     (a symlink to a versioned folder), so an interrupted or killed build leaves the previous set
     whole; older sets are then removed file by file as their own manifests list them.
+
+    Incremental: the determinacy, each state's diagrams and each figure are kept in a stage cache
+    (sheets.cache, ``.sheets-sets/<name>/cache/``) under the content of exactly what they depend on,
+    so a rebuild after a change redoes only what the change reaches; the rest (tables, results,
+    the PDF) is made anew every time, and a cached build writes the same bytes as a forced one.
+    ``force``: make every stage anew (the cache is refreshed, not read).
     """
     from sheets.analysis.member_checks import member_checks, member_checks_csv
     from sheets.analysis.sizing import size_members
+    from sheets.cache import StageCache
     from sheets.export.publish import SetWriter, output_error
     from sheets.reciprocal.stage import project_diagrams
     from sheets.report.assemble import assemble
@@ -244,16 +257,18 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     template = load_template(project.info.template, source.parent, project.source)
     out = Path(out_dir) if out_dir is not None else default_out_dir(source)
     with SetWriter(out) as target:  # checks the folder and takes its lock before computing
+        cache = StageCache(target.area / CACHE_FOLDER, read=not force)
         note("analysis")
-        analysis = analyse(project, progress)
+        analysis = analyse(project, progress, cache.get_or_make)
         note("member checks")
         checks = member_checks(analysis)
         sizing = size_members(analysis)
         outcome = design_outcome_of(analysis, checks)
         note("diagrams")
-        diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress, template.labels_up_to)
+        diagrams = project_diagrams(analysis, [s.id for s in drawn_states(analysis)], progress, template.labels_up_to,
+                                    cache.get_or_make)
         note("figures")
-        figures, notes = collect_figures(analysis, template, progress, diagrams=diagrams)
+        figures, notes = collect_figures(analysis, template, progress, diagrams=diagrams, cache=cache)
         note("results")
         try:
             staging = target.stage()
@@ -274,7 +289,8 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
             files = target.publish(pdf_name, project.fingerprint)
         except OSError as exc:  # a full disk or a folder gone read-only while writing: the previous set stays
             raise output_error(exc, target.out) from exc
-    return SheetBuild(out / pdf_name, files, analysis.passed, outcome, project.units, tuple(target.kept))
+        cache.prune(CACHE_BYTES)
+    return SheetBuild(out / pdf_name, files, analysis.passed, outcome, project.units, tuple(target.kept), cache.summary())
 
 
 # -- force diagrams (`sheets draw`) ----------------------------------------------

@@ -14,6 +14,7 @@ outputs (``.sheets-cache``), and only files it made itself are ever removed.
 
 from __future__ import annotations
 
+import copyreg
 import dataclasses
 import hashlib
 import os
@@ -23,6 +24,7 @@ import tempfile
 from pathlib import Path
 from collections.abc import Mapping
 from functools import lru_cache
+from types import MappingProxyType
 from typing import Any, Callable, TypeVar
 
 import numpy as np
@@ -30,6 +32,18 @@ import numpy as np
 from sheets import __version__
 
 T = TypeVar("T")
+# the project's read-only tables (materials, sections) are mapping proxies, which pickle cannot store as they are
+def _mapping_proxy(items: dict) -> MappingProxyType:
+    return MappingProxyType(items)
+
+
+copyreg.pickle(MappingProxyType, lambda proxy: (_mapping_proxy, (dict(proxy),)))
+Remember = Callable[[str, tuple, Callable[[], Any]], Any]  # (stage, inputs, make) -> make()'s value, perhaps stored
+
+
+def no_cache(stage: str, inputs: tuple, make: Callable[[], T]) -> T:
+    """The ``Remember`` of a build without a cache: make everything."""
+    return make()
 ENTRY_SUFFIX = ".entry"
 PART_PREFIX = ".part-"
 
@@ -89,37 +103,68 @@ def content_key(stage: str, *inputs: Any) -> str:
     return digest.hexdigest()
 
 
-class StageCache:
-    """Entries under ``folder/<stage>/<key>.entry``; ``None`` as the folder turns caching off."""
+MISSING = object()  # what ``StageCache.lookup`` returns for an entry it does not hold
 
-    def __init__(self, folder: str | Path | None):
+
+class StageCache:
+    """Entries under ``folder/<stage>/<key>.entry``; ``None`` as the folder turns caching off.
+
+    ``read=False`` (``sheets build --force``) makes every stage anew and stores what it made, so the
+    next build starts from fresh entries. ``hits`` and ``misses`` name the stage of each lookup, in
+    order, so a build can say what it made and what it reused.
+    """
+
+    def __init__(self, folder: str | Path | None, read: bool = True):
         self.folder = Path(folder) if folder is not None else None
+        self.read = read
         self.hits: list[str] = []
         self.misses: list[str] = []
 
     def _path(self, stage: str, key: str) -> Path:
         return self.folder / stage / f"{key}{ENTRY_SUFFIX}"
 
+    def lookup(self, stage: str, inputs: tuple) -> tuple[str | None, Any]:
+        """(key, the stored value or MISSING); the key is None where caching is off."""
+        if self.folder is None:
+            return None, MISSING
+        key = content_key(stage, *inputs)
+        if self.read:
+            path = self._path(stage, key)
+            try:
+                with open(path, "rb") as stream:
+                    value = pickle.load(stream)
+            except FileNotFoundError:
+                pass
+            except Exception:  # damaged or foreign: ours to drop (by its name and place), then made anew
+                path.unlink(missing_ok=True)
+            else:
+                self.hits.append(stage)
+                return key, value
+        self.misses.append(stage)
+        return key, MISSING
+
+    def store(self, stage: str, key: str | None, value: Any) -> None:
+        """Keep ``value`` under the key ``lookup`` gave (nothing where caching is off)."""
+        if key is not None:
+            self._put(self._path(stage, key), value)
+
     def get_or_make(self, stage: str, inputs: tuple, make: Callable[[], T]) -> T:
         """The cached output of ``stage`` for ``inputs``, or ``make()`` stored for next time."""
-        if self.folder is None:
-            return make()
-        key = content_key(stage, *inputs)
-        path = self._path(stage, key)
-        try:
-            with open(path, "rb") as stream:
-                value = pickle.load(stream)
-        except FileNotFoundError:
-            pass
-        except Exception:  # damaged or foreign: ours to drop (by its name and place), then made anew
-            path.unlink(missing_ok=True)
-        else:
-            self.hits.append(stage)
-            return value
-        self.misses.append(stage)
-        value = make()
-        self._put(path, value)
+        key, value = self.lookup(stage, inputs)
+        if value is MISSING:
+            value = make()
+            self.store(stage, key, value)
         return value
+
+    def summary(self) -> str:
+        """'made: figure x3, assembly; reused: determinacy, figure x4' for the lookups so far."""
+        def counted(stages: list[str]) -> str:
+            counts: dict[str, int] = {}
+            for stage in stages:
+                counts[stage] = counts.get(stage, 0) + 1
+            return ", ".join(s if n == 1 else f"{s} x{n}" for s, n in counts.items()) or "nothing"
+
+        return f"made: {counted(self.misses)}; reused: {counted(self.hits)}"
 
     def _put(self, path: Path, value: Any) -> None:
         try:
@@ -159,3 +204,11 @@ class StageCache:
             total -= size
             removed += 1
         return removed
+
+
+def without_loads(project) -> Any:
+    """What a single state's stages depend on besides the state itself: the project without its cases'
+    loads (a state carries its own loads; a change to one case must not redo the states it is not in),
+    its fingerprint (a digest of those loads too) and the paths it was read from."""
+    return dataclasses.replace(project, cases=tuple(dataclasses.replace(c, loads=np.zeros(0)) for c in project.cases),
+                               fingerprint="", source="", inputs=())

@@ -12,6 +12,7 @@ from sheets.analysis.equilibrium import Equilibrium, project_equilibrium
 from sheets.analysis.prestress import prestress_forces
 from sheets.analysis.solvers import FrameSolver
 from sheets.analysis.states import State, check_state, reactions_for
+from sheets.cache import Remember, no_cache
 from sheets.errors import MechanismError, Problem, ProjectError
 from sheets.model.project import AXES, STANDARD_GRAVITY, LoadCase, Project
 
@@ -171,12 +172,16 @@ def _state(project, eq, kind, sid, title, loads, forces, d_free, method, factors
     return State(sid, kind, title, loads, forces, reactions, displacements, method, checks, factors)
 
 
-def analyse(project: Project, progress: Progress | None = None) -> Analysis:
+def analyse(project: Project, progress: Progress | None = None, remember: Remember = no_cache) -> Analysis:
+    """``remember``: a stage cache (sheets.cache); the determinacy, the costly part of a large frame,
+    depends on the geometry and supports alone, so it is kept across changes of loads and sections."""
     note = progress or (lambda _msg: None)
     note("equilibrium matrix")
     eq = project_equilibrium(project)
     note("determinacy")
-    det = determinacy(eq, project.options.rank_tolerance, project.options.dense_limit)
+    opts = project.options
+    det = remember("determinacy", (project.coords, project.ends, project.fixed, opts.rank_tolerance, opts.dense_limit),
+                   lambda: determinacy(eq, opts.rank_tolerance, opts.dense_limit))
     needs_stiffness = det.self_stress > 0 or project.options.method == "elastic"
     ea = _ea_or_error(project) if needs_stiffness else project.member_ea()
     solver = FrameSolver(eq, det, ea, project.options.method)

@@ -61,6 +61,7 @@ class _Reader:
         self.lines = KeyLines(text)
         self.problems: list[Problem] = []
         self.hash = hashlib.sha256(text.encode("utf-8"))
+        self.inputs: list[str] = [str(path)]  # every file read, for `sheets build --watch`
         # ("nodes" | "members", id) -> (file, line) of a CSV row; TOML entries are found by key path
         self.csv_origin: dict[tuple[str, str], tuple[str, int]] = {}
 
@@ -209,6 +210,7 @@ def _build(r: _Reader, data: dict) -> Project | None:
         design=design,
         polyhedral=polyhedral,
         fingerprint=r.hash.hexdigest(),
+        inputs=tuple(dict.fromkeys(r.inputs)),
     )
 
 
@@ -374,6 +376,7 @@ def _csv_rows(r: _Reader, name: Any, where: Path_, columns: tuple[str, ...], opt
         r.problem(where, f"cannot read '{name}': {exc.strerror or exc}", "the path is relative to the project file")
         return
     r.hash.update(b"\0" + name.encode() + b"\0" + raw)
+    r.inputs.append(str(path))
     text = _csv_text(r, raw, name, where, str(path))
     if text is None:
         return

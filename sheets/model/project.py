@@ -208,6 +208,7 @@ class Project:
     design: DesignOptions = field(default_factory=DesignOptions)
     polyhedral: PolyhedralInput = field(default_factory=PolyhedralInput)
     fingerprint: str = ""  # sha256 of the project file and every file it includes
+    inputs: tuple[str, ...] = ()  # the project file and every file it includes, as read
 
     @property
     def n_nodes(self) -> int:

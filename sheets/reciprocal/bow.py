@@ -22,6 +22,8 @@ node id (in either case), so 'B' never names both a node and a space.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from sheets.reciprocal.embedding import Embedding
@@ -90,32 +92,49 @@ def _piece_params(embedding: Embedding, element_ends: np.ndarray, members: np.nd
     return np.einsum("ij,ij->i", p - a, d) / np.maximum(np.einsum("ij,ij->i", d, d), 1e-300)
 
 
-def frame_space_labels(embedding: Embedding, faces: Faces, frame: tuple[Embedding, Faces], element_ends: np.ndarray,
-                       n_members: int, avoid=()) -> tuple[str, ...]:
-    """Letters of a state's spaces taken from the frame's spaces (see the module docstring).
+@dataclass(frozen=True)
+class FrameLetters:
+    """What a state's letters take from the frame's spaces, and nothing else (so it can key a cache of a
+    state's diagrams): each member piece of the frame, in member order and along the member, with where
+    it ends along its member (member index + fraction) and the frame's ranks of the spaces either side."""
 
-    ``frame``: the embedding and faces of the frame with an external force at every load point and support;
-    ``element_ends``: (m, 2) node indices of each member. A space with no member of its own, or a second
-    piece of a frame space cut by a force's ray, gets a letter after the frame's."""
+    ends: np.ndarray  # (pieces,) member index + fraction at the piece's end, ascending
+    left: np.ndarray  # (pieces,) frame rank of the space on the piece's left
+    right: np.ndarray  # (pieces,) and on its right
+    count: int  # spaces of the frame
+
+
+def frame_letters(frame: tuple[Embedding, Faces], element_ends: np.ndarray, n_members: int) -> FrameLetters:
+    """``frame``: the embedding and faces of the frame with an external force at every load point and support."""
     frame_emb, frame_faces = frame
     rank = np.empty(frame_faces.count, dtype=np.int64)
     rank[space_order(frame_emb, frame_faces)] = np.arange(frame_faces.count)
-    ours = np.flatnonzero(embedding.element < n_members)
     theirs = np.flatnonzero(frame_emb.element < n_members)
     theirs = theirs[np.lexsort((frame_emb.segment[theirs], frame_emb.element[theirs]))]
     ends = frame_emb.element[theirs] + np.clip(_piece_params(frame_emb, element_ends, theirs, 1.0), 0, 1)
+    return FrameLetters(ends, rank[frame_faces.left[theirs]], rank[frame_faces.right[theirs]], int(frame_faces.count))
+
+
+def frame_space_labels(embedding: Embedding, faces: Faces, frame: FrameLetters, element_ends: np.ndarray,
+                       n_members: int, avoid=()) -> tuple[str, ...]:
+    """Letters of a state's spaces taken from the frame's spaces (see the module docstring).
+
+    ``frame``: ``frame_letters`` of the frame's embedding; ``element_ends``: (m, 2) node indices of each
+    member. A space with no member of its own, or a second piece of a frame space cut by a force's ray,
+    gets a letter after the frame's."""
+    ours = np.flatnonzero(embedding.element < n_members)
     mids = embedding.element[ours] + np.clip(_piece_params(embedding, element_ends, ours, 0.5), 0, 1)
-    match = theirs[np.minimum(np.searchsorted(ends, mids), len(theirs) - 1)]
+    match = np.minimum(np.searchsorted(frame.ends, mids), len(frame.ends) - 1)
     best = np.full(faces.count, np.iinfo(np.int64).max)
-    np.minimum.at(best, faces.left[ours], rank[frame_faces.left[match]])
-    np.minimum.at(best, faces.right[ours], rank[frame_faces.right[match]])
+    np.minimum.at(best, faces.left[ours], frame.left[match])
+    np.minimum.at(best, faces.right[ours], frame.right[match])
     own = np.empty(faces.count, dtype=np.int64)
     own[space_order(embedding, faces)] = np.arange(faces.count)
-    extra = frame_faces.count
+    extra = frame.count
     used: set[int] = set()
     final = np.empty(faces.count, dtype=np.int64)
     for f in np.lexsort((own, best)).tolist():  # frame order, then the state's own order for ties
-        if best[f] < frame_faces.count and int(best[f]) not in used:
+        if best[f] < frame.count and int(best[f]) not in used:
             final[f] = best[f]
             used.add(int(best[f]))
         else:

@@ -53,7 +53,7 @@ from sheets.analysis.states import State
 from sheets.model.project import DrawingOptions, Project, frozen_array
 from sheets.model.units import DisplayUnits
 from sheets.render.palette import ZERO_FORCE_RELATIVE
-from sheets.reciprocal.bow import frame_space_labels, member_name, space_labels, space_order
+from sheets.reciprocal.bow import FrameLetters, frame_letters, frame_space_labels, member_name, space_labels, space_order
 from sheets.reciprocal.embedding import Crossing, Embedding, EmbeddingError, embed
 from sheets.reciprocal.faces import Faces
 from sheets.reciprocal.graph import ExtendedGraph, extended_graph
@@ -190,7 +190,7 @@ class ForceDiagram:
 
 
 def force_diagram(project: Project, state: State, drawing: DrawingOptions | None = None,
-                  frame: tuple[Embedding, Faces] | None = None) -> ForceDiagram:
+                  frame: FrameLetters | None = None) -> ForceDiagram:
     """The force diagram of ``state``, embedded as ``drawing`` (default: the project's [drawing] options).
 
     ``frame``: ``frame_spaces(project, drawing)`` where the caller draws several states (built once)."""
@@ -206,10 +206,11 @@ def force_diagram(project: Project, state: State, drawing: DrawingOptions | None
                               tolerance=project.options.equilibrium_tolerance, title=project.info.title, labels=labels)
 
 
-def frame_spaces(project: Project, drawing: DrawingOptions | None = None) -> tuple[Embedding, Faces]:
-    """The embedding and spaces of the frame with a force at every load point and support: what Bow's
-    letters are given to (``bow.frame_space_labels``), the same for every state."""
-    return embed(extended_graph(project, frame_state(project)), drawing or project.drawing, project.vertical_axis)
+def frame_spaces(project: Project, drawing: DrawingOptions | None = None) -> FrameLetters:
+    """The spaces of the frame with a force at every load point and support, as Bow's letters take them
+    (``bow.frame_space_labels``): the same for every state."""
+    frame = embed(extended_graph(project, frame_state(project)), drawing or project.drawing, project.vertical_axis)
+    return frame_letters(frame, np.asarray(project.ends), project.n_members)
 
 
 @dataclass(frozen=True)

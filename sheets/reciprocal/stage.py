@@ -11,10 +11,12 @@ left out with the reason, never faked.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 from typing import Any, Iterable
 
 from sheets.analysis import Analysis
+from sheets.cache import Remember, content_key, no_cache, without_loads
 from sheets.reciprocal.cells import NodeCells, node_cells
 from sheets.reciprocal.diagram import ForceDiagram, force_diagram, frame_spaces
 from sheets.reciprocal.minkowski_sum import MinkowskiView, minkowski_view
@@ -29,6 +31,7 @@ class StateDiagrams:
     polar: ProjectPolarity | None  # 3D frames with a [polyhedral] table
     minkowski: MinkowskiView | None
     problems: tuple[str, ...] = ()  # what could not be built, and why
+    key: str = ""  # the content key of what they were built from, where a stage cache keyed them (for the figures)
 
     @property
     def polar_usable(self) -> bool:
@@ -67,12 +70,16 @@ def state_diagrams(analysis: Analysis, state_id: str, complex_: CellComplex | No
 
 
 def project_diagrams(analysis: Analysis, state_ids: Iterable[str], progress=None,
-                     members_up_to: int | None = None) -> dict[str, StateDiagrams]:
+                     members_up_to: int | None = None, remember: Remember = no_cache) -> dict[str, StateDiagrams]:
     """The diagrams of the given states, the cell complex (if any) found once for all.
 
     ``members_up_to``: the sheet set's label limit. A larger frame's sheets show a force summary
     instead of its diagrams (sheets.render.force_summary), so none is built (minutes of work and
     hundreds of thousands of edges for a 20,000-member grid); each state says so in ``problems``.
+
+    ``remember``: a stage cache (sheets.cache). A state's diagrams depend on the project without
+    its loads, the state and the frame's spaces (Bow's letters, shared by every state), so a
+    change of one case redoes only the states that case is part of.
     """
     note = progress or (lambda _m: None)
     project = analysis.project
@@ -90,10 +97,14 @@ def project_diagrams(analysis: Analysis, state_ids: Iterable[str], progress=None
         frame = frame_spaces(project)
     except Exception:  # each state's force diagram tries again and reports what fails
         frame = None
+    design = without_loads(project)
     out = {}
     for sid in state_ids:
         note(f"diagrams: {sid}")
-        out[sid] = state_diagrams(analysis, sid, complex_, frame=frame)
+        inputs = (design, analysis.state(sid), frame)
+        key = content_key("state diagrams", *inputs) if remember is not no_cache else ""
+        made = remember("state diagrams", inputs, lambda: state_diagrams(analysis, sid, complex_, frame=frame))
+        out[sid] = dataclasses.replace(made, key=key)
     return out
 
 

@@ -54,6 +54,7 @@ from typing import Any, Callable, Iterable
 from matplotlib.figure import Figure
 
 from sheets.analysis import Analysis
+from sheets.cache import MISSING, StageCache, without_loads
 from sheets.render import form_figure
 from sheets.report.templates import Template
 from sheets.report.vector import VECTOR_SUFFIX, VectorFigure, read_vector_file, record
@@ -415,39 +416,61 @@ def _stop_workers(pool: ProcessPoolExecutor) -> None:
             worker.kill()
 
 
+def figure_inputs(analysis: Analysis, template: Template, source: Source, state_id: str | None, diagrams: dict) -> tuple:
+    """What one figure depends on: its source, the project without its loads (sheets.cache.without_loads),
+    the template, its state (loads, forces, reactions, displacements, checks) and the key of the
+    state's diagrams. A change to one case redraws only the figures of the states that case is in."""
+    state = None if state_id is None else analysis.state(state_id)
+    prepared = None if state_id is None else diagrams.get(state_id)
+    return (source.name, without_loads(analysis.project), template, state, prepared.key if prepared is not None else "")
+
+
 def collect_figures(analysis: Analysis, template: Template, progress: Progress | None = None, workers: int | None = None,
-                    sources: tuple[Source, ...] | None = None,
-                    diagrams: dict | None = None) -> tuple[tuple[SheetFigure, ...], tuple[str, ...]]:
+                    sources: tuple[Source, ...] | None = None, diagrams: dict | None = None,
+                    cache: StageCache | None = None) -> tuple[tuple[SheetFigure, ...], tuple[str, ...]]:
     """Every figure of the set in a fixed order, and notes on the ones left out.
 
     Figures are independent, so with ``workers`` > 1 (default: up to 2, the cores a build
     machine has) they are drawn in forked worker processes; the order, and so the bytes of
     the sheet set, do not depend on which finishes first. Where fork is not available they
-    are drawn one after another.
+    are drawn one after another. ``cache`` (sheets.cache.StageCache): figures whose inputs
+    (``figure_inputs``) are unchanged are read from it, not drawn again.
     """
     note = progress or (lambda _m: None)
     sources = SOURCES if sources is None else sources
+    diagrams = diagrams or {}
+    cache = cache or StageCache(None)
     tasks = [(i, None if state is None else state.id) for i, src in enumerate(sources) for state in src.states(analysis)]
+    looked = [cache.lookup("figure", figure_inputs(analysis, template, sources[i], sid, diagrams)) for i, sid in tasks]
+    results: list[list | None] = [None if value is MISSING else value for _, value in looked]
+    todo = [k for k, value in enumerate(results) if value is None]
     workers = min(2, os.cpu_count() or 1) if workers is None else workers
-    results: list[list] = []
     with tempfile.TemporaryDirectory(prefix="sheets-figures-") as scratch:
-        args = (analysis, template, Path(scratch), sources, diagrams or {})
-        if workers > 1 and len(tasks) > 1 and "fork" in multiprocessing.get_all_start_methods():
+        args = (analysis, template, Path(scratch), sources, diagrams)
+
+        def say(n: int, k: int) -> int:
+            i, sid = tasks[k]
+            note(f"figures: {sources[i].name} {sid or ''} ({n + 1}/{len(todo)})")
+            return k
+
+        def made(k: int, value: list) -> None:
+            results[k] = value
+            cache.store("figure", looked[k][0], value)
+
+        if workers > 1 and len(todo) > 1 and "fork" in multiprocessing.get_all_start_methods():
             context = multiprocessing.get_context("fork")
             with ProcessPoolExecutor(workers, mp_context=context, initializer=_start_worker,
                                      initargs=(args, os.getpid())) as pool:
                 try:
-                    futures = [pool.submit(_task, i, sid) for i, sid in tasks]
-                    for k, ((i, sid), future) in enumerate(zip(tasks, futures)):
-                        note(f"figures: {sources[i].name} {sid or ''} ({k + 1}/{len(tasks)})")
-                        results.append(future.result())
+                    futures = [pool.submit(_task, *tasks[k]) for k in todo]
+                    for n, (k, future) in enumerate(zip(todo, futures)):
+                        made(say(n, k), future.result())
                 except BaseException:
                     _stop_workers(pool)
                     raise
         else:
-            for k, (i, sid) in enumerate(tasks):
-                note(f"figures: {sources[i].name} {sid or ''} ({k + 1}/{len(tasks)})")
-                results.append(_run(args, i, sid))
+            for n, k in enumerate(todo):
+                made(say(n, k), _run(args, *tasks[k]))
     figures = [item for items in results for item in items if isinstance(item, SheetFigure)]
     notes = [item.text for items in results for item in items if isinstance(item, FigureNote)]
     return tuple(_unique_keys(figures)), tuple(notes)

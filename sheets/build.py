@@ -211,6 +211,7 @@ class SheetBuild:
     outcome_units: Any = None  # the project's display units, to print the outcome in
     kept: tuple[str, ...] = ()  # older sets left in place because they hold files sheets did not write
     stages: str = ""  # what this build made and what it reused from the stage cache (StageCache.summary)
+    inputs: tuple[str, ...] = ()  # every file the build read: the project, the files it includes, the template
 
 
 def default_out_dir(project_path: str | Path) -> Path:
@@ -290,7 +291,8 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
         except OSError as exc:  # a full disk or a folder gone read-only while writing: the previous set stays
             raise output_error(exc, target.out) from exc
         cache.prune(CACHE_BYTES)
-    return SheetBuild(out / pdf_name, files, analysis.passed, outcome, project.units, tuple(target.kept), cache.summary())
+    return SheetBuild(out / pdf_name, files, analysis.passed, outcome, project.units, tuple(target.kept), cache.summary(),
+                      project.inputs + (template.source,))
 
 
 # -- force diagrams (`sheets draw`) ----------------------------------------------

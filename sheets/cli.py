@@ -99,6 +99,10 @@ def _parser() -> argparse.ArgumentParser:
     p = sub.add_parser("build", help="write the PDF calculation sheet set, results JSON/CSV and every figure")
     p.add_argument("project", help="the project file (.toml)")
     p.add_argument("--out", metavar="DIR", help="output folder (default: <project folder>/out/<project name>/)")
+    p.add_argument("--force", action="store_true",
+                   help="make every stage anew instead of reusing what an earlier build made from the same inputs")
+    p.add_argument("--watch", action="store_true",
+                   help="build, then build again whenever the project or a file it includes is saved (Ctrl-C stops)")
     p.set_defaults(run=_build)
 
     p = sub.add_parser("diff", help="list what changed between two revisions (project files or results JSON)")
@@ -289,6 +293,12 @@ def _print_outcome(outcome, units) -> None:
 
 
 def _build(args) -> int:
+    if args.watch:
+        return _watch(args)
+    return _report_build(_build_once(args, args.force))
+
+
+def _build_once(args, force: bool):
     stages = build.BUILD_STAGES
     with progress_bar(command="build") as (bar, task):
         bar.update(task, total=len(stages))
@@ -299,8 +309,12 @@ def _build(args) -> int:
             else:
                 bar.update(task, description=message)
 
-        result = build.build_sheets(args.project, args.out, note)
+        result = build.build_sheets(args.project, args.out, note, force=force)
         bar.update(task, completed=len(stages), description="done")
+    return result
+
+
+def _report_build(result) -> int:
     out.print(f"wrote {result.pdf}", markup=False)
     out.print(f"  and {len(result.files) - 1} more files beside it (results.json, csv/, figures/, manifest.json)")
     for folder in result.kept:
@@ -311,6 +325,32 @@ def _build(args) -> int:
         err.print("[red]A verification check failed: the sheets say so and must not be used as they stand.[/red]")
         return EXIT_CHECK_FAILED
     return EXIT_DESIGN_FLAGS if result.outcome is not None and result.outcome.flagged else EXIT_OK
+
+
+def _watch(args) -> int:
+    """Build now and on every saved change; a build that fails says why and the watch goes on
+    (the last whole set stays in place). Ctrl-C ends it (exit 130, as for any command)."""
+    import time
+
+    from sheets.watch import shown, watch
+
+    def one(round_) -> tuple[str, ...]:
+        if round_.changed:
+            out.print(f"changed: {shown(round_.changed, args.project)}", markup=False)
+        started = time.perf_counter()
+        try:
+            result = _build_once(args, args.force and round_.number == 1)
+        except (ProjectError, MechanismError, OutputError) as exc:
+            _report_error(exc)
+            out.print("not built; the last set is unchanged. Watching for the next save (Ctrl-C stops).")
+            return ()
+        _report_build(result)
+        out.print(f"build {round_.number} in {time.perf_counter() - started:.1f} s; {result.stages}", markup=False)
+        out.print(f"watching {len(set(result.inputs))} files for changes (Ctrl-C stops)")
+        return result.inputs
+
+    watch(args.project, one)
+    return EXIT_OK
 
 
 def _draw(args) -> int:
@@ -446,6 +486,21 @@ def _import(args) -> int:
     return EXIT_OK
 
 
+def _report_error(exc: OutputError | ProjectError | MechanismError) -> int:
+    """Say what is wrong with the input or the output folder, and what to do; return the exit code."""
+    if isinstance(exc, OutputError):
+        err.print("[red]The output cannot be written.[/red]")
+        err.print(f"  {exc}", markup=False, soft_wrap=True)  # unwrapped: the path stays whole to copy
+    elif isinstance(exc, ProjectError):
+        err.print(f"[red]The project has {len(exc.problems)} problem{'s' if len(exc.problems) != 1 else ''}:[/red]")
+        for problem in exc.problems:
+            err.print(f"  {problem}", markup=False, soft_wrap=True)  # no breaks inside a path:line
+    else:
+        err.print("[red]The frame cannot carry the loads.[/red]")
+        err.print(f"  {exc}", markup=False, soft_wrap=True)
+    return exc.exit_code
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     try:
@@ -456,19 +511,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         err.print(f"Stopped ({stopped_by.name}): nothing half-written was published; earlier outputs are unchanged.",
                   markup=False)
         return 128 + stopped_by
-    except OutputError as exc:
-        err.print("[red]The output cannot be written.[/red]")
-        err.print(f"  {exc}", markup=False, soft_wrap=True)  # unwrapped: the path stays whole to copy
-        return exc.exit_code
-    except ProjectError as exc:
-        err.print(f"[red]The project has {len(exc.problems)} problem{'s' if len(exc.problems) != 1 else ''}:[/red]")
-        for problem in exc.problems:
-            err.print(f"  {problem}", markup=False, soft_wrap=True)  # no breaks inside a path:line
-        return exc.exit_code
-    except MechanismError as exc:
-        err.print("[red]The frame cannot carry the loads.[/red]")
-        err.print(f"  {exc}", markup=False, soft_wrap=True)
-        return exc.exit_code
+    except (OutputError, ProjectError, MechanismError) as exc:
+        return _report_error(exc)
     except Exception as exc:  # last resort for a bug: bad input has its own errors above, never this
         if os.environ.get("SHEETS_DEBUG") == "1":
             raise

@@ -1,0 +1,117 @@
+"""A rebuild after one load value changed, as a ratio of a full build (sheets' stage cache).
+
+    python bench/bench_incremental.py [--project demo_projects/atrium_grid/atrium_grid.toml] [--repeat R]
+
+The demo is copied to a scratch folder. For each load case, one load value of one node in that
+case's loads (the first non-zero component of the first loaded node) is raised by 10 % and the
+set is built again; the baseline is a full build of the same revision with ``force`` (every
+stage made anew) in the same run. Two ways:
+
+- in one process (what ``sheets build --watch`` does): ``build_sheets`` called in turn, the
+  imports paid once by a warm-up build;
+- as commands (what running ``sheets build`` twice does): ``python -m sheets build [--force]``,
+  each a fresh process paying its imports.
+
+Prints the seconds of each and the ratio rebuild / full, and what the rebuild made and reused;
+never a pass/fail. The target of the project: a ratio of 0.30 or less for the largest demo.
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import os
+import re
+import shutil
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+
+from sheets.build import build_sheets  # noqa: E402
+from sheets.model import load_project  # noqa: E402
+
+DEFAULT = ROOT / "demo_projects" / "atrium_grid" / "atrium_grid.toml"
+
+
+def raise_one_load(project: Path, case_id: str) -> str:
+    """Raise one load value of ``case_id`` by 10 % in whichever file gives it; returns what changed."""
+    text = project.read_text(encoding="utf-8")
+    block = re.search(rf"^\[cases\.{re.escape(case_id)}\]\n(.*?)(?=^\[|\Z)", text, re.M | re.S)
+    named = re.search(r'^loads_file\s*=\s*"([^"]+)"', block.group(1), re.M) if block else None
+    if named:
+        path = project.parent / named.group(1)
+        rows = list(csv.reader(io.StringIO(path.read_text(encoding="utf-8"))))
+        for row in rows[1:]:
+            for c, value in enumerate(row[1:], start=1):
+                if float(value) != 0:
+                    row[c] = f"{float(value) * 1.1:.6g}"
+                    buffer = io.StringIO()
+                    csv.writer(buffer, lineterminator="\n").writerows(rows)
+                    path.write_text(buffer.getvalue(), encoding="utf-8")
+                    return f"{path.name}: node {row[0]} {rows[0][c]} {value} -> {row[c]}"
+    found = re.search(r"(loads\.\w+\s*=\s*\[\s*)([-\d.]+)", block.group(1)) if block else None
+    if found is None or float(found.group(2)) == 0:
+        raise SystemExit(f"no load value to change in case {case_id} of {project}")
+    old = found.group(0)
+    new = f"{found.group(1)}{float(found.group(2)) * 1.1:.6g}"
+    project.write_text(text.replace(old, new, 1), encoding="utf-8")
+    return f"{project.name}: {old.strip()} -> {new.strip()}"
+
+
+def timed(call) -> tuple[float, object]:
+    start = time.perf_counter()
+    value = call()
+    return time.perf_counter() - start, value
+
+
+def command(project: Path, out: Path, force: bool) -> float:
+    args = [sys.executable, "-m", "sheets", "build", str(project), "--out", str(out)] + (["--force"] if force else [])
+    seconds, result = timed(lambda: subprocess.run(args, capture_output=True, text=True,
+                                                   env={**os.environ, "PYTHONPATH": str(ROOT)}))
+    if result.returncode not in (0, 5):
+        raise SystemExit(f"build failed ({result.returncode}): {result.stderr[-2000:]}")
+    return seconds
+
+
+def main(argv=None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--project", type=Path, default=DEFAULT)
+    parser.add_argument("--repeat", type=int, default=1, help="rebuilds timed per case (best kept)")
+    parser.add_argument("--no-commands", action="store_true", help="time in one process only")
+    args = parser.parse_args(argv)
+    with tempfile.TemporaryDirectory(dir=os.environ.get("BENCH_DIR")) as scratch:
+        folder = Path(scratch) / args.project.parent.name
+        shutil.copytree(args.project.parent, folder, ignore=shutil.ignore_patterns("out", ".sheets-sets"))
+        project = folder / args.project.name
+        cases = [c.id for c in load_project(project).cases]
+        out, baseline = Path(scratch) / "sets" / "rebuilt", Path(scratch) / "sets" / "full"
+        print(f"{args.project.name}: {load_project(project).n_members} members, cases {', '.join(cases)}")
+        build_sheets(project, out)  # warm-up: imports, and the cache of this revision
+        rows = []
+        for case_id in cases:
+            what = raise_one_load(project, case_id)
+            rebuild, result = min((timed(lambda: build_sheets(project, out)) for _ in range(args.repeat)),
+                                  key=lambda t: t[0])
+            full, _ = timed(lambda: build_sheets(project, baseline, force=True))
+            rows.append(("one process", case_id, what, full, rebuild, result.stages))
+            if not args.no_commands:
+                raise_one_load(project, case_id)  # another change, so the command's rebuild has one to make
+                rebuild_cmd = command(project, out, force=False)
+                full_cmd = command(project, baseline, force=True)
+                rows.append(("commands", case_id, what, full_cmd, rebuild_cmd, ""))
+        print(f"{'how':<12} {'case':<5} {'full s':>7} {'rebuild s':>9} {'ratio':>6}  change / stages of the rebuild")
+        for how, case_id, what, full, rebuild, stages in rows:
+            print(f"{how:<12} {case_id:<5} {full:7.2f} {rebuild:9.2f} {rebuild / full:6.2f}  {what if how == 'one process' else ''}")
+            if stages:
+                print(f"{'':<12} {'':<5} {'':>7} {'':>9} {'':>6}  {stages}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

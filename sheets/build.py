@@ -277,7 +277,7 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
                           result_sections(analysis, checks, sizing, diagrams))
             write_atomic(staging / "csv" / "member_checks.csv", member_checks_csv(checks, project, analysis.equilibrium.lengths))
             for fig in figures:
-                write_atomic(staging / "figures" / fig.file_name, fig.file_bytes(project.info.prepared_by))
+                write_atomic(staging / "figures" / fig.file_name, fig.file)
             issued = [IssuedFile("results.json", "every result of this set, machine-readable (schema sheets.results/1)")]
             issued += [IssuedFile(f"csv/{p.name}", CSV_CONTENTS.get(p.name, "table")) for p in sorted((staging / "csv").glob("*.csv"))]
             issued += [IssuedFile(f"figures/{f.file_name}", f.title) for f in figures]

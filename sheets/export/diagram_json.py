@@ -7,12 +7,12 @@ keys in a fixed order, floats as Python's shortest round-trip repr.
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import numpy as np
 
 from sheets.export.atomic import write_atomic
+from sheets.export.json_text import json_text
 from sheets.reciprocal.diagram import ForceDiagram
 
 SCHEMA = "sheets.diagram/1"
@@ -117,24 +117,9 @@ def _label_order(labels) -> list[int]:
     return sorted(range(len(labels)), key=lambda f: (len(labels[f]), labels[f]))
 
 
-def _compact(value) -> str:
-    return json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(", ", ": "))
-
-
 def diagram_json(diagram: ForceDiagram) -> str:
     """The document as text: one top-level key per line group, one record per line."""
-    lines = ["{"]
-    items = list(diagram_document(diagram).items())
-    for i, (key, value) in enumerate(items):
-        comma = "," if i < len(items) - 1 else ""
-        if isinstance(value, list) and value and isinstance(value[0], dict):
-            lines.append(f" {json.dumps(key)}: [")
-            lines.extend(f"  {_compact(v)}{',' if j < len(value) - 1 else ''}" for j, v in enumerate(value))
-            lines.append(f" ]{comma}")
-        else:
-            lines.append(f" {json.dumps(key)}: {_compact(value)}{comma}")
-    lines.append("}")
-    return "\n".join(lines) + "\n"
+    return json_text(diagram_document(diagram), levels=1)
 
 
 def write_diagram_json(diagram: ForceDiagram, path: str | Path) -> Path:

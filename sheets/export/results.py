@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import csv
 import io
-import json
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
@@ -20,6 +19,7 @@ from sheets import __version__
 from sheets.analysis.analyse import Analysis, case_self_weight
 from sheets.analysis.states import State
 from sheets.export.atomic import write_atomic
+from sheets.export.json_text import json_text
 from sheets.model.project import AXES
 
 SCHEMA = "sheets.results/1"
@@ -185,7 +185,7 @@ def results_document(analysis: Analysis, extra: Mapping[str, Any] | None = None)
 
 
 def results_json(analysis: Analysis, extra: Mapping[str, Any] | None = None) -> str:
-    return json.dumps(results_document(analysis, extra), indent=1, ensure_ascii=False, allow_nan=False) + "\n"
+    return json_text(results_document(analysis, extra), levels=2)
 
 
 def _csv_text(header: list[str], rows: Iterable[list[Any]]) -> str:

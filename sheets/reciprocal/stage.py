@@ -97,7 +97,7 @@ def project_diagrams(analysis: Analysis, state_ids: Iterable[str], progress=None
         frame = frame_spaces(project)
     except Exception:  # each state's force diagram tries again and reports what fails
         frame = None
-    design = without_loads(project)
+    design = content_key("project without loads", without_loads(project)) if remember is not no_cache else ""
     out = {}
     for sid in state_ids:
         note(f"diagrams: {sid}")

@@ -39,6 +39,7 @@ build: it is left out and the cautions page says which and why.
 from __future__ import annotations
 
 import ctypes
+import dataclasses
 import importlib
 import io
 import multiprocessing
@@ -54,7 +55,7 @@ from typing import Any, Callable, Iterable
 from matplotlib.figure import Figure
 
 from sheets.analysis import Analysis
-from sheets.cache import MISSING, StageCache, without_loads
+from sheets.cache import MISSING, StageCache, content_key, without_loads
 from sheets.render import form_figure
 from sheets.report.templates import Template
 from sheets.report.vector import VECTOR_SUFFIX, VectorFigure, read_vector_file, record
@@ -72,6 +73,7 @@ class SheetFigure:
     vector: VectorFigure | None = None
     png: bytes | None = None  # raster views (3D renders)
     png_size: tuple[int, int] = (0, 0)  # pixels
+    file: bytes = b""  # the file for figures/, made where the figure is drawn (``with_file``)
 
     @property
     def file_name(self) -> str:
@@ -79,6 +81,11 @@ class SheetFigure:
 
     def file_bytes(self, author: str = "") -> bytes:
         return self.vector.pdf_bytes(self.title, author) if self.vector is not None else self.png
+
+    def with_file(self, author: str) -> "SheetFigure":
+        """This figure with its file made (compressing a vector figure's PDF is much of its cost:
+        done in the worker that drew it, and kept with it in the stage cache)."""
+        return dataclasses.replace(self, file=self.file_bytes(author))
 
 
 @dataclass(frozen=True)
@@ -373,7 +380,9 @@ def _run(args, index: int, state_id: str | None) -> list:
     analysis, template, scratch, sources, diagrams = args
     state = None if state_id is None else analysis.state(state_id)
     prepared = None if state_id is None else diagrams.get(state_id)
-    return list(sources[index].draw(analysis, template, scratch, state, prepared))
+    author = analysis.project.info.prepared_by
+    return [item.with_file(author) if isinstance(item, SheetFigure) else item
+            for item in sources[index].draw(analysis, template, scratch, state, prepared)]
 
 
 def _task(index: int, state_id: str | None) -> list:
@@ -416,13 +425,17 @@ def _stop_workers(pool: ProcessPoolExecutor) -> None:
             worker.kill()
 
 
-def figure_inputs(analysis: Analysis, template: Template, source: Source, state_id: str | None, diagrams: dict) -> tuple:
-    """What one figure depends on: its source, the project without its loads (sheets.cache.without_loads),
-    the template, its state (loads, forces, reactions, displacements, checks) and the key of the
-    state's diagrams. A change to one case redraws only the figures of the states that case is in."""
-    state = None if state_id is None else analysis.state(state_id)
-    prepared = None if state_id is None else diagrams.get(state_id)
-    return (source.name, without_loads(analysis.project), template, state, prepared.key if prepared is not None else "")
+def figure_inputs(base: str, source: Source, state, prepared) -> tuple:
+    """What one figure depends on: ``base`` (``figure_base``), its source, its state (loads, forces,
+    reactions, displacements, checks) and the key of the state's diagrams. A change to one case
+    redraws only the figures of the states that case is in."""
+    return (base, source.name, state, prepared.key if prepared is not None else "")
+
+
+def figure_base(analysis: Analysis, template: Template) -> str:
+    """The digest of what every figure depends on: the project without its loads (sheets.cache.without_loads)
+    and the template; made once per build, not once per figure."""
+    return content_key("figure base", without_loads(analysis.project), template)
 
 
 def collect_figures(analysis: Analysis, template: Template, progress: Progress | None = None, workers: int | None = None,
@@ -441,7 +454,9 @@ def collect_figures(analysis: Analysis, template: Template, progress: Progress |
     diagrams = diagrams or {}
     cache = cache or StageCache(None)
     tasks = [(i, None if state is None else state.id) for i, src in enumerate(sources) for state in src.states(analysis)]
-    looked = [cache.lookup("figure", figure_inputs(analysis, template, sources[i], sid, diagrams)) for i, sid in tasks]
+    base = figure_base(analysis, template) if cache.folder is not None else ""
+    looked = [cache.lookup("figure", figure_inputs(base, sources[i], None if sid is None else analysis.state(sid),
+                                                   diagrams.get(sid))) for i, sid in tasks]
     results: list[list | None] = [None if value is MISSING else value for _, value in looked]
     todo = [k for k, value in enumerate(results) if value is None]
     workers = min(2, os.cpu_count() or 1) if workers is None else workers

@@ -18,7 +18,7 @@ import pypdf
 import pytest
 
 from sheets import cli
-from sheets.build import build_sheets
+from sheets.build import CACHE_FOLDER, build_sheets
 from sheets.export import publish
 
 from girder_project import PROJECT, write_project
@@ -215,7 +215,8 @@ def test_a_stopped_build_leaves_no_worker_behind(tmp_path, how):
     assert [w for w in workers if _alive(w)] == []
     if how != signal.SIGKILL:  # a clean stop: no staging left, lock free, nothing published
         assert not os.path.lexists(out)
-        assert [p.name for p in publish.sets_folder(out).iterdir()] == [publish.LOCK_NAME]
+        # the lock, and the stage cache of what was made before the stop (entries are whole or absent)
+        assert {p.name for p in publish.sets_folder(out).iterdir()} <= {publish.LOCK_NAME, CACHE_FOLDER}
 
 
 @pytest.mark.slow
@@ -241,7 +242,10 @@ def test_a_build_killed_at_random_moments_leaves_a_whole_set(tmp_path):
     assert cli.main(["build", str(path), "--out", str(tmp_path / "out")]) == 0
     _assert_whole_set(out)
     leftovers = sorted(p.name for p in publish.sets_folder(out).iterdir())
-    assert leftovers == [publish.LOCK_NAME, Path(os.readlink(out)).name]  # one set, no staging
+    assert leftovers == sorted([publish.LOCK_NAME, Path(os.readlink(out)).name, CACHE_FOLDER])  # one set, no staging
+    # the stage cache the killed builds were writing into gives what a build from nothing gives
+    assert cli.main(["build", str(path), "--out", str(tmp_path / "forced"), "--force"]) == 0
+    assert _files(out) == _files(tmp_path / "forced")
 
 
 # -- same input, same bytes ----------------------------------------------------------

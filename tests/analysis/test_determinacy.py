@@ -120,52 +120,12 @@ def test_conditioning_is_reported(frame):
 def test_the_command_exits_with_3_and_names_the_motion(tmp_path, capsys):
     # The same two panels as a project file with the user's own ids; the sideways load at the
     # top right corner pushes the unbraced panel along its mechanism.
-    (tmp_path / "two_panels.toml").write_text("""\
-[project]
-title = "Two panels, one unbraced"
+    from two_panels import project
 
-[units]
-force = "kN"
-
-[materials.steel]
-elastic_modulus = "200 GPa"
-
-[sections.bar]
-material = "steel"
-area = "500 mm^2"
-
-[member_defaults]
-section = "bar"
-
-[nodes]
-BL = [0, 0]
-BM = [1, 0]
-BR = [2, 0]
-TL = [0, 1]
-TM = [1, 1]
-TR = [2, 1]
-
-[members]
-b1 = ["BL", "BM"]
-b2 = ["BM", "BR"]
-t1 = ["TL", "TM"]
-t2 = ["TM", "TR"]
-v1 = ["BL", "TL"]
-v2 = ["BM", "TM"]
-v3 = ["BR", "TR"]
-d1 = ["BL", "TM"]
-d2 = ["BM", "TL"]
-
-[supports]
-BL = "xy"
-BR = "y"
-
-[cases.wind]
-loads = { TR = [2, 0] }
-""")
+    path = project(tmp_path, more='\n[cases.wind]\nloads = { TR = [2, 0] }\n')
     from sheets.cli import main
 
-    assert main(["solve", str(tmp_path / "two_panels.toml"), "--quiet"]) == 3
+    assert main(["solve", str(path), "--quiet"]) == 3
     said = capsys.readouterr().err
     assert "TR +x" in said or "TR -x" in said
     assert "mechanism" in said

@@ -216,13 +216,14 @@ class SheetBuild:
 def compare_with(earlier: dict[str, Any], analysis: Analysis, sections: dict[str, Any], force_change: float,
                  utilisation_change: float):
     """This build's results (``sections`` as written to results.json) against an earlier revision's results
-    document: the comparison, its results section and its figure."""
+    document: the comparison, its results section and its figures (none where nothing changed)."""
     from sheets.export.results import results_document
     from sheets.report.figures import comparison_figure
     from sheets.revision.compare import compare_results, comparison_document
 
     comparison = compare_results(earlier, results_document(analysis, sections), force_change, utilisation_change)
-    return comparison, {"comparison": comparison_document(comparison)}, comparison_figure(analysis, comparison)
+    figures = () if comparison.empty else (comparison_figure(analysis, comparison),)
+    return comparison, {"comparison": comparison_document(comparison)}, figures
 
 
 def default_out_dir(project_path: str | Path) -> Path:
@@ -276,8 +277,8 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
         sections = result_sections(analysis, checks, sizing, diagrams)
         comparison = None
         if earlier is not None:
-            comparison, section, figure = compare_with(earlier, analysis, sections, force_change, utilisation_change)
-            sections, figures = {**sections, **section}, (*figures, figure)
+            comparison, section, drawn = compare_with(earlier, analysis, sections, force_change, utilisation_change)
+            sections, figures = {**sections, **section}, (*figures, *drawn)
         try:
             staging = target.stage()
             write_results(analysis, staging / "results.json", staging / "csv", sections)

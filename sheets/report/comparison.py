@@ -75,7 +75,7 @@ def comparison_section(sheet, st: Styles) -> list:
     if unchanged and not c.empty:
         out.append(para(escape("No change in " + ", ".join(unchanged) + "."), st))
     figures = sheet.figures_for("comparison")
-    if figures and not c.empty:
+    if figures:
         out.append(para(f"The changed members and nodes on the frame: {st.numbering.ahead('Figure', len(figures))}.", st))
         for fig in figures:
             out += figure(fig, sheet, st)

@@ -63,9 +63,10 @@ def comparison_section(sheet, st: Styles) -> list:
                                              "its state (in either revision)"),
         ("A utilisation counts as changed", f"when the governing indicative utilisation moves by more than {utilisation:g}"),
         ("A node counts as moved", "when it moves by more than a millionth of the frame's size"),
-        ("Members changed", f"{len(c.changed_members)} of {p.n_members}"
-                            + (": " + ", ".join(c.changed_members) if c.changed_members else "")),
+        ("Members changed", f"{len(c.changed_members)} of {p.n_members}"),
     ], w, 0.32))
+    if c.changed_members:  # a paragraph, not a table cell: a long list runs on over pages, every id printed
+        out.append(para(escape(f"Changed members: {', '.join(c.changed_members)}."), st))
     if c.empty:
         out.append(para("<b>No change</b> in geometry, supports, members, loads, states, member forces, utilisations or "
                         "determinacy between the two revisions.", st))

@@ -57,9 +57,9 @@ def roofs(tmp_path_factory):
 
 
 def _members_changed_line(text: str) -> list[str]:
-    """The ids listed in the section's 'Members changed  N of M: a, b, ...' row."""
-    found = re.search(r"Members changed (\d+) of \d+: (.*?) (?:No change|The changed members|Geometry and topology)", text)
-    assert found, "no 'Members changed' row in the comparison section"
+    """The ids the section lists ('Members changed N of M', then 'Changed members: a, b, ...')."""
+    found = re.search(r"Members changed (\d+) of \d+ Changed members: (.*?)\. ", text)
+    assert found, "no list of changed members in the comparison section"
     ids = [m.strip() for m in found.group(2).split(",")]
     assert len(ids) == int(found.group(1))
     return ids

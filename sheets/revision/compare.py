@@ -106,9 +106,11 @@ def _added_removed(what: str, old: Mapping, new: Mapping, describe=lambda value:
     """Items only in ``new`` (added) or only in ``old`` (removed); ``describe(value)`` gives the
     (value, kind) recorded with them, so a removed item can still be drawn where it was."""
     for item in sorted(set(new) - set(old)):
-        yield Change(f"{what} added", item, new=describe(new[item])[0], kind=describe(new[item])[1])
+        value, kind = describe(new[item])
+        yield Change(f"{what} added", item, new=value, kind=kind)
     for item in sorted(set(old) - set(new)):
-        yield Change(f"{what} removed", item, old=describe(old[item])[0], kind=describe(old[item])[1])
+        value, kind = describe(old[item])
+        yield Change(f"{what} removed", item, old=value, kind=kind)
 
 
 def _geometry(old: Mapping, new: Mapping):

@@ -212,6 +212,20 @@ class SheetBuild:
     kept: tuple[str, ...] = ()  # older sets left in place because they hold files sheets did not write
     stages: str = ""  # what this build made and what it reused from the stage cache (StageCache.summary)
     inputs: tuple[str, ...] = ()  # every file the build read: the project, the files it includes, the template
+    comparison: Any = None  # sheets.revision.compare.Comparison with the earlier revision, where asked for
+
+
+def compare_with(earlier: dict[str, Any], analysis: Analysis, sections: dict[str, Any], force_change: float,
+                 utilisation_change: float):
+    """This build's results (``sections`` as written to results.json) against an earlier revision's results
+    document: the comparison, its results section and its figures (none where nothing changed)."""
+    from sheets.export.results import results_document
+    from sheets.report.figures import comparison_figure
+    from sheets.revision.compare import compare_results, comparison_document
+
+    comparison = compare_results(earlier, results_document(analysis, sections), force_change, utilisation_change)
+    figures = () if comparison.empty else (comparison_figure(analysis, comparison),)
+    return comparison, {"comparison": comparison_document(comparison)}, figures
 
 
 def default_out_dir(project_path: str | Path) -> Path:
@@ -225,8 +239,12 @@ CACHE_BYTES = 1 << 30  # the oldest-read entries beyond this are removed after e
 
 
 def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: Progress | None = None,
-                 force: bool = False) -> SheetBuild:
+                 force: bool = False, compare: str | Path | None = None, force_change: float = 0.01,
+                 utilisation_change: float = 0.01) -> SheetBuild:
     """The whole chain: load -> analyse -> member checks -> diagrams and figures -> results -> PDF, into ``out_dir``.
+
+    ``compare``: an earlier revision (project file or results JSON, read and checked before anything
+    is computed or written); the set then carries a revision comparison (``compare_with``).
 
     Writes <out>/<project stem>.pdf, <out>/results.json, <out>/csv/*.csv, <out>/figures/* and
     <out>/manifest.json (SHA-256 of every file). The output folder is checked and locked before
@@ -256,6 +274,7 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     source = Path(path)
     project = load_project(source)
     template = load_template(project.info.template, source.parent, project.source)
+    earlier = None if compare is None else results_of(compare, lambda m: note(f"earlier revision: {m}"))
     out = Path(out_dir) if out_dir is not None else default_out_dir(source)
     with SetWriter(out) as target:  # checks the folder and takes its lock before computing
         cache = StageCache(target.area / CACHE_FOLDER, read=not force)
@@ -271,10 +290,14 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
         note("figures")
         figures, notes = collect_figures(analysis, template, progress, diagrams=diagrams, cache=cache)
         note("results")
+        sections = result_sections(analysis, checks, sizing, diagrams)
+        comparison = None
+        if earlier is not None:
+            comparison, section, drawn = compare_with(earlier, analysis, sections, force_change, utilisation_change)
+            sections, figures = {**sections, **section}, (*figures, *drawn)
         try:
             staging = target.stage()
-            write_results(analysis, staging / "results.json", staging / "csv",
-                          result_sections(analysis, checks, sizing, diagrams))
+            write_results(analysis, staging / "results.json", staging / "csv", sections)
             write_atomic(staging / "csv" / "member_checks.csv", member_checks_csv(checks, project, analysis.equilibrium.lengths))
             for fig in figures:
                 write_atomic(staging / "figures" / fig.file_name, fig.file)
@@ -284,7 +307,8 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
             issued.append(IssuedFile("manifest.json", "SHA-256 of every file above and of this PDF"))
             note("assembly")
             pdf_name = f"{source.stem}.pdf"
-            pdf = assemble(analysis, checks, figures, template, issued=tuple(issued), sizing=sizing, notes=notes)
+            pdf = assemble(analysis, checks, figures, template, issued=tuple(issued), sizing=sizing, notes=notes,
+                           comparison=comparison)
             write_atomic(staging / pdf_name, pdf)
             note("writing files")
             files = target.publish(pdf_name, project.fingerprint)
@@ -292,7 +316,7 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
             raise output_error(exc, target.out) from exc
         cache.prune(CACHE_BYTES)
     return SheetBuild(out / pdf_name, files, analysis.passed, outcome, project.units, tuple(target.kept), cache.summary(),
-                      project.inputs + (template.source,))
+                      project.inputs + (template.source,), comparison)
 
 
 # -- force diagrams (`sheets draw`) ----------------------------------------------

@@ -103,15 +103,15 @@ def _parser() -> argparse.ArgumentParser:
                    help="make every stage anew instead of reusing what an earlier build made from the same inputs")
     p.add_argument("--watch", action="store_true",
                    help="build, then build again whenever the project or a file it includes is saved (Ctrl-C stops)")
+    p.add_argument("--compare", metavar="OLD",
+                   help="add a revision comparison with an earlier revision: its project file or results.json")
+    _threshold_options(p)
     p.set_defaults(run=_build)
 
     p = sub.add_parser("diff", help="list what changed between two revisions (project files or results JSON)")
     p.add_argument("old", help="the earlier revision: a project file or its results.json")
     p.add_argument("new", help="the later revision: a project file or its results.json")
-    p.add_argument("--force-change", type=float, default=0.01, metavar="FRACTION",
-                   help="a member force counts as changed beyond this fraction of the state's largest force (default 0.01)")
-    p.add_argument("--utilisation-change", type=float, default=0.01, metavar="AMOUNT",
-                   help="a utilisation counts as changed beyond this (default 0.01)")
+    _threshold_options(p)
     p.add_argument("--json", metavar="FILE", help="also write the comparison (schema sheets.comparison/1) here")
     p.set_defaults(run=_diff)
 
@@ -136,6 +136,21 @@ def _parser() -> argparse.ArgumentParser:
                    help="ends closer than this (drawing units) are one node (default: a millionth of the drawing's size)")
     p.set_defaults(run=_import)
     return parser
+
+
+def _threshold(text: str) -> float:
+    value = float(text)
+    if not value >= 0:  # also refuses nan
+        raise argparse.ArgumentTypeError(f"must be a number at or above 0, got {text}")
+    return value
+
+
+def _threshold_options(p: argparse.ArgumentParser) -> None:
+    """The thresholds of a revision comparison (`diff`, `build --compare`)."""
+    p.add_argument("--force-change", type=_threshold, default=0.01, metavar="FRACTION",
+                   help="a member force counts as changed beyond this fraction of the state's largest force (default 0.01)")
+    p.add_argument("--utilisation-change", type=_threshold, default=0.01, metavar="AMOUNT",
+                   help="a utilisation counts as changed beyond this (default 0.01)")
 
 
 class PlainLines:
@@ -309,7 +324,8 @@ def _build_once(args, force: bool):
             else:
                 bar.update(task, description=message)
 
-        result = build.build_sheets(args.project, args.out, note, force=force)
+        result = build.build_sheets(args.project, args.out, note, force=force, compare=args.compare,
+                                    force_change=args.force_change, utilisation_change=args.utilisation_change)
         bar.update(task, completed=len(stages), description="done")
     return result
 
@@ -317,6 +333,10 @@ def _build_once(args, force: bool):
 def _report_build(result) -> int:
     out.print(f"wrote {result.pdf}", markup=False)
     out.print(f"  and {len(result.files) - 1} more files beside it (results.json, csv/, figures/, manifest.json)")
+    if result.comparison is not None:
+        from sheets.revision.compare import summary
+
+        out.print(f"  {summary(result.comparison)}", markup=False, soft_wrap=True)
     for folder in result.kept:
         err.print(f"kept an earlier set, it holds files sheets did not write: {folder}", markup=False)
     if result.outcome is not None:
@@ -428,7 +448,7 @@ def _diff(args) -> int:
         if isinstance(value, float):
             return f"{value:.6g}{unit}"
         if isinstance(value, list):
-            return "[" + ", ".join(f"{v:.6g}" for v in value) + "]" + unit
+            return "[" + ", ".join(f"{v:.6g}" if isinstance(v, float) else str(v) for v in value) + "]" + unit
         return "" if value is None else str(value)
 
     for change in c.geometry + c.states + c.loads + c.determinacy + c.forces + c.utilisations:

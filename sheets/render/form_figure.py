@@ -1,6 +1,6 @@
 """Plain form-diagram figures for the sheets (matplotlib, vector, headless).
 
-Three kinds, each a matplotlib Figure built without pyplot (no global state):
+The figures, each a matplotlib Figure built without pyplot (no global state):
 
 - ``model_figure``: the frame with node and member labels and the supports;
 - ``loads_figure``: the frame in grey with the nodal loads of one load case;
@@ -9,7 +9,9 @@ Three kinds, each a matplotlib Figure built without pyplot (no global state):
   grey; line width proportional to |force|; labels carry the signed force), with
   its loads (black) and reactions (blue);
 - ``displaced_figure``: the displaced shape of one state over the frame as
-  given, displacements exaggerated by a stated round factor.
+  given, displacements exaggerated by a stated round factor;
+- ``changes_figure``: the frame with the members and nodes changed from an
+  earlier revision marked (``sheets build --compare``).
 
 A 3D frame is drawn as orthographic projections (the project's [drawing]
 views: plan, front, side, axonometric), one panel each, titled with the plane
@@ -400,3 +402,69 @@ def displaced_figure(project: Project, displacements: np.ndarray, title: str, la
     if marked:
         handles.append(Line2D([], [], marker="o", ls="", mfc="none", mec=palette.DISPLACED, label=f"largest deflection, node {marked}"))
     return _finish(fig, axes, _legend(fig, handles, title, 2))
+
+
+CHANGED_WIDTH, ADDED_STYLE, REMOVED_STYLE = 2.4, (0, (5.0, 1.2, 1.2, 1.2)), (0, (3.0, 2.0))
+LABELLED_CHANGES = 80  # above this many marked members their ids are left to the tables
+
+
+def changes_figure(project: Project, marks, title: str) -> Figure:
+    """The frame of this revision with what changed from an earlier one marked (``marks``:
+    sheets.revision.compare.FrameMarks): changed members heavy and reddish purple, added members heavy
+    blue dash-dotted, removed members dashed grey where they were, the rest light grey; added nodes as
+    squares, removed ones as crosses, moved ones as rings with a dotted line from where they stood."""
+    fig, axes, views, xys = _layout(project)
+    index = {mid: e for e, mid in enumerate(project.member_ids)}
+    nodes = {nid: n for n, nid in enumerate(project.node_ids)}
+    changed = [index[m] for m in marks.changed if m in index]
+    added = [index[m] for m in marks.added_members if m in index]
+    gone = np.array([[a, b] for _, a, b in marks.removed_members], dtype=float).reshape(-1, 2, project.dim)
+    moved_from = np.array([xyz for _, xyz in marks.moved_nodes], dtype=float).reshape(-1, project.dim)
+    moved_to = [nodes[n] for n, _ in marks.moved_nodes]
+    gone_nodes = np.array([xyz for _, xyz in marks.removed_nodes], dtype=float).reshape(-1, project.dim)
+    new_nodes = [nodes[n] for n in marks.added_nodes if n in nodes]
+    marked = len(changed) + len(added) + len(gone)
+    placer = Labels()
+    for ax, (_, proj), xy in zip(axes, views, xys):
+        _members(ax, project, xy, palette.UNCHANGED, 0.5, zorder=1)
+        _supports(ax, project, xy, proj, 25 if project.n_members <= 300 else 10)
+        if len(gone):
+            _add_lines(ax, gone @ proj, [palette.REMOVED] * len(gone), [1.2] * len(gone), [REMOVED_STYLE] * len(gone), zorder=2)
+        for pick, colour, style in ((changed, palette.CHANGED, "solid"), (added, palette.ADDED, ADDED_STYLE)):
+            if pick:
+                segs = xy[project.ends[pick]]
+                _add_lines(ax, segs, [colour] * len(pick), [CHANGED_WIDTH] * len(pick), [style] * len(pick), zorder=3)
+        if len(moved_to):
+            old = moved_from @ proj
+            _add_lines(ax, np.stack([old, xy[moved_to]], axis=1), [palette.CHANGED] * len(moved_to), [0.6] * len(moved_to),
+                       [(0, (1.0, 1.5))] * len(moved_to), zorder=4)
+            _markers(ax, xy[moved_to], "o", 40, facecolor="none", edgecolor=palette.CHANGED, lw=1.0, zorder=5)
+        if new_nodes:
+            _markers(ax, xy[new_nodes], "s", 22, colour=palette.ADDED, zorder=5)
+        if len(gone_nodes):
+            _markers(ax, gone_nodes @ proj, "x", 26, colour=palette.REMOVED, lw=1.0, zorder=5)
+        if marked <= LABELLED_CHANGES:
+            for e in changed + added:
+                middle = xy[project.ends[e]].mean(axis=0)
+                placer.add(offset_text(ax, middle, (0, 3), project.member_ids[e], fontsize=SMALL, ha="center", va="bottom",
+                                       color=palette.LABEL))
+            for (mid, _, _), seg in zip(marks.removed_members, gone @ proj):
+                placer.add(offset_text(ax, seg.mean(axis=0), (0, 3), mid, fontsize=SMALL, ha="center", va="bottom",
+                                       color=palette.REMOVED))
+    _furniture(axes, views, xys, project)
+    handles = [Line2D([], [], color=palette.CHANGED, lw=CHANGED_WIDTH, label=f"member changed ({len(changed)})"),
+               Line2D([], [], color=palette.UNCHANGED, lw=0.5, label=f"unchanged ({project.n_members - len(changed) - len(added)})")]
+    if added:
+        handles.append(Line2D([], [], color=palette.ADDED, lw=CHANGED_WIDTH, ls=ADDED_STYLE, label=f"member added ({len(added)})"))
+    if len(gone):
+        handles.append(Line2D([], [], color=palette.REMOVED, lw=1.2, ls=REMOVED_STYLE,
+                              label=f"member removed, where it was ({len(gone)})"))
+    if new_nodes:
+        handles.append(Line2D([], [], marker="s", ls="", color=palette.ADDED, label=f"node added ({len(new_nodes)})"))
+    if len(gone_nodes):
+        handles.append(Line2D([], [], marker="x", ls="", color=palette.REMOVED, label=f"node removed ({len(gone_nodes)})"))
+    if moved_to:
+        handles.append(Line2D([], [], marker="o", mfc="none", mec=palette.CHANGED, color=palette.CHANGED, lw=0.6, ls=":",
+                              label=f"node moved, dotted from where it was ({len(moved_to)})"))
+    note = "" if marked <= LABELLED_CHANGES else f"; ids of the {marked} marked members in the tables"
+    return _placed(_finish(fig, axes, _legend(fig, handles, title + note, 2)), placer)

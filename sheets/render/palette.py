@@ -23,6 +23,11 @@ LABEL = "#222222"
 CROSSING = "#A16084"  # reddish purple #CC79A7 x 0.79: 4.6:1; crossing vertices, overlaps
 FACE = "#F0E442"  # yellow, for highlighted faces/spaces
 DISPLACED = "#0072B2"  # blue: the displaced shape
+# Revision comparison (sheets.render.form_figure.changes_figure): what changed stands out, the rest recedes
+CHANGED = "#A16084"  # reddish purple, as CROSSING: a member changed from the earlier revision
+ADDED = "#0072B2"  # blue: a member or node new in this revision
+REMOVED = "#747474"  # grey, dashed: where a member or node of the earlier revision was
+UNCHANGED = "#C8C8C8"  # light grey, context only: never carries a label or a legend's meaning alone
 
 ZERO_FORCE_RELATIVE = 1e-9  # |t| below this x max|t| is drawn as zero-force
 LEGEND_COLOURS = (TENSION, COMPRESSION, LOAD, REACTION, ZERO_FORCE, LABEL, CROSSING)

@@ -19,7 +19,7 @@ from sheets.report.figures import SheetFigure
 from sheets.report.fonts import register_fonts
 from sheets.report.sections import SECTIONS, IssuedFile, SheetSet
 from sheets.report.tables import make_styles
-from sheets.report.templates import Template
+from sheets.report.templates import Template, section_order
 
 
 def metadata(analysis: Analysis) -> Metadata:
@@ -41,17 +41,18 @@ def metadata(analysis: Analysis) -> Metadata:
 
 
 def assemble(analysis: Analysis, checks: MemberChecks, figures: tuple[SheetFigure, ...], template: Template, *,
-             issued: tuple[IssuedFile, ...] = (), sizing: Any | None = None, notes: tuple[str, ...] = ()) -> bytes:
-    """The whole sheet set as PDF bytes."""
+             issued: tuple[IssuedFile, ...] = (), sizing: Any | None = None, notes: tuple[str, ...] = (),
+             comparison: Any | None = None) -> bytes:
+    """The whole sheet set as PDF bytes; ``comparison`` (sheets.revision.compare) adds the revision comparison."""
     fonts = register_fonts()
     styles = make_styles(fonts, template.font_size)
     buffer = io.BytesIO()
     p = analysis.project
     doc = SheetDocument(buffer, template, p.info, p.fingerprint, fonts, metadata(analysis), __version__)
     sheet = SheetSet(analysis, checks, tuple(figures), template, doc.body_width, doc.body_height, tuple(issued), sizing,
-                     tuple(notes))
+                     tuple(notes), comparison)
     story: list = []
-    for name in template.order:
+    for name in section_order(template, {"comparison"} if comparison is not None else set()):
         flowables = SECTIONS[name](sheet, styles)
         if flowables and story:
             story.append(PageBreak())  # every section starts on a new sheet

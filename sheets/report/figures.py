@@ -189,6 +189,26 @@ def _forces(analysis: Analysis, template: Template, scratch: Path, state, prepar
                                                                template.labels_up_to)))
 
 
+def comparison_figure(analysis: Analysis, comparison) -> SheetFigure:
+    """The frame with the members and nodes changed from an earlier revision marked (``comparison``:
+    sheets.revision.compare.Comparison). Drawn by the build once it has compared the results, not a source:
+    it exists only when a comparison is asked for."""
+    from sheets.revision.compare import frame_marks
+
+    p = analysis.project
+    marks = frame_marks(comparison, dict(zip(p.node_ids, p.coords.tolist())))
+    force = comparison.thresholds["force_change"]
+    caption = (f"The frame of this revision; heavy reddish purple: the members changed from {comparison.old} "
+               f"in geometry, section or role, in force by more than {force * 100:g} % of their state's largest force, or in "
+               f"governing utilisation by more than {comparison.thresholds['utilisation_change']:g}. Added members "
+               "are heavy blue and dash-dotted, removed ones dashed grey where they were; squares mark added nodes, "
+               "crosses removed ones, rings moved ones (dotted from where they stood). The tables of this section "
+               "list every change.")
+    return SheetFigure("revision-changes", "comparison", None, "Members changed from the earlier revision", caption,
+                       vector=_vector(form_figure.changes_figure(p, marks, f"Changes from {comparison.old}"))
+                       ).with_file(p.info.prepared_by)
+
+
 def _serviceability_states(analysis: Analysis) -> list:
     from sheets.analysis.design_states import design_states
 

@@ -51,6 +51,7 @@ class SheetSet:
     issued: tuple[IssuedFile, ...] = ()
     sizing: Any | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)  # parts not in this set, and why
+    comparison: Any | None = None  # sheets.revision.compare.Comparison with an earlier revision, where asked for
 
     @property
     def project(self):
@@ -152,6 +153,10 @@ def cover(sheet: SheetSet, st: Styles) -> list:
     else:
         rows = [[r.revision, r.date, r.note] for r in revisions]
     out.append(table(st, ["Revision", "Date", "Description"], rows, widths=[sheet.width * 0.12, sheet.width * 0.16, sheet.width * 0.72]))
+    if sheet.comparison is not None:
+        from sheets.revision.compare import summary
+
+        out.append(para(escape(summary(sheet.comparison)) + " See <i>Revision comparison</i>.", st))
     out.append(Paragraph("Contents", st.h2))
     toc = TableOfContents(dotsMinLevel=0)
     toc.levelStyles = [_toc_style(st, 0), _toc_style(st, 1)]
@@ -814,8 +819,16 @@ def cautions(sheet: SheetSet, st: Styles) -> list:
     return out
 
 
+def comparison(sheet: SheetSet, st: Styles) -> list:
+    """What changed from an earlier revision (sheets.report.comparison); empty unless the build compared."""
+    from sheets.report.comparison import comparison_section
+
+    return comparison_section(sheet, st)
+
+
 SECTIONS: dict[str, Section] = {
     "cover": cover,
+    "comparison": comparison,
     "design_basis": design_basis,
     "model": model,
     "determinacy": determinacy,

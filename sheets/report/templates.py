@@ -33,8 +33,9 @@ else:  # pragma: no cover
 # finding one by name stays cheap for `sheets check`.
 PAGE_SIZES = ("A4", "A3", "letter")
 ORIENTATIONS = ("portrait", "landscape")
-SECTIONS = ("cover", "design_basis", "model", "determinacy", "states", "envelope", "member_checks", "sizing",
+SECTIONS = ("cover", "comparison", "design_basis", "model", "determinacy", "states", "envelope", "member_checks", "sizing",
             "serviceability", "issued_files", "cautions")
+OPTIONAL_SECTIONS = {"comparison": "cover"}  # shown only when asked for, and then after this section if the order omits it
 STATE_PARTS = ("forces", "reactions", "checks", "form_forces", "force_diagram", "cells", "minkowski", "load_path")
 FIELDS = ("title", "number", "client", "calculation", "sheet", "revision", "date", "prepared_by", "checked_by",
           "status", "fingerprint")
@@ -74,6 +75,16 @@ class Template:
     state_parts: tuple[str, ...]
     table_rows: int
     labels_up_to: int
+
+
+def section_order(template: Template, present: set[str] = frozenset()) -> tuple[str, ...]:
+    """The template's order, with each optional section that is ``present`` (asked for in this build) placed
+    where ``OPTIONAL_SECTIONS`` puts it when the template (a copy made before the section existed) omits it."""
+    order = list(template.order)
+    for name in sorted(present):
+        if name not in order:
+            order.insert(order.index(OPTIONAL_SECTIONS[name]) + 1, name)
+    return tuple(order)
 
 
 def builtin_folder() -> Path:

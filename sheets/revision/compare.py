@@ -102,18 +102,22 @@ def compare_results(old: Mapping, new: Mapping, force_change: float = 0.01, util
     )
 
 
-def _added_removed(what: str, old: Mapping, new: Mapping):
+def _added_removed(what: str, old: Mapping, new: Mapping, describe=lambda value: (None, "")):
+    """Items only in ``new`` (added) or only in ``old`` (removed); ``describe(value)`` gives the
+    (value, kind) recorded with them, so a removed item can still be drawn where it was."""
     for item in sorted(set(new) - set(old)):
-        yield Change(f"{what} added", item)
+        value, kind = describe(new[item])
+        yield Change(f"{what} added", item, new=value, kind=kind)
     for item in sorted(set(old) - set(new)):
-        yield Change(f"{what} removed", item)
+        value, kind = describe(old[item])
+        yield Change(f"{what} removed", item, old=value, kind=kind)
 
 
 def _geometry(old: Mapping, new: Mapping):
     a, b = _nodes(old), _nodes(new)
     points = [xyz for xyz, _ in list(a.values()) + list(b.values())]
     size = float(np.ptp(np.array(points), axis=0).max()) if points else 1.0
-    yield from _added_removed("node", a, b)
+    yield from _added_removed("node", a, b, lambda node: (node[0].tolist(), "length"))
     for nid in sorted(set(a) & set(b)):
         (xa, fa), (xb, fb) = a[nid], b[nid]
         if xa.shape != xb.shape or np.linalg.norm(xb - xa) > 1e-6 * (size or 1.0):
@@ -121,7 +125,7 @@ def _geometry(old: Mapping, new: Mapping):
         if fa != fb:
             yield Change("support changed", nid, old="".join(fa) or "free", new="".join(fb) or "free")
     ma, mb = _members(old), _members(new)
-    yield from _added_removed("member", ma, mb)
+    yield from _added_removed("member", ma, mb, lambda m: ([m["start"], m["end"]], ""))
     for mid in sorted(set(ma) & set(mb)):
         ea, eb = ma[mid], mb[mid]
         if {ea["start"], ea["end"]} != {eb["start"], eb["end"]}:
@@ -194,6 +198,46 @@ def _load_paths(old: Mapping, new: Mapping):
     fa, fb = _factor(old, "load_path"), _factor(new, "load_path")
     for sid, sa, sb in _common_states(old, new):
         yield Change("load path", sid, sid, sa["load_path"] * fa, sb["load_path"] * fb, "load_path")
+
+
+def summary(c: Comparison) -> str:
+    """One sentence for a cover or a console: which revision, and how much changed beyond the thresholds."""
+    if c.empty:
+        return f"Compared with {c.old}: no change in geometry, loads, states, member forces, utilisations or determinacy."
+    n = len(c.changed_members)
+    counts = [f"{len(x)} {name} change{'s' if len(x) != 1 else ''}" for name, x in
+              (("geometry", c.geometry), ("load", c.loads), ("state", c.states), ("determinacy", c.determinacy)) if x]
+    return (f"Compared with {c.old}: {n} member{'s' if n != 1 else ''} changed (geometry, or force beyond "
+            f"{c.thresholds['force_change'] * 100:g} % of a state's largest, or utilisation beyond "
+            f"{c.thresholds['utilisation_change']:g})" + ("; " + ", ".join(counts) if counts else "") + ".")
+
+
+@dataclass(frozen=True)
+class FrameMarks:
+    """What a figure of the new frame marks: members and nodes by id, and where removed ones were (SI)."""
+
+    changed: tuple[str, ...]  # members in both revisions, changed in geometry, force or utilisation
+    added_members: tuple[str, ...]
+    removed_members: tuple[tuple[str, tuple, tuple], ...]  # (id, start, end coordinates in the old revision)
+    added_nodes: tuple[str, ...]
+    removed_nodes: tuple[tuple[str, tuple], ...]  # (id, old coordinates)
+    moved_nodes: tuple[tuple[str, tuple], ...]  # (id, old coordinates)
+
+
+def frame_marks(c: Comparison, coordinates: Mapping[str, Any]) -> FrameMarks:
+    """The marks of ``c`` on the new frame, whose node coordinates (SI, by id) are ``coordinates``."""
+    def ids(what: str) -> tuple[str, ...]:
+        return tuple(x.item for x in c.geometry if x.what == what)
+
+    moved = tuple((x.item, tuple(x.old)) for x in c.geometry if x.what == "node moved")
+    removed_nodes = tuple((x.item, tuple(x.old)) for x in c.geometry if x.what == "node removed")
+    # where each node of the old revision stood: as now, unless it moved or is gone
+    old_position = {nid: tuple(xyz) for nid, xyz in coordinates.items()} | dict(moved) | dict(removed_nodes)
+    removed_members = tuple((x.item, old_position[x.old[0]], old_position[x.old[1]])
+                            for x in c.geometry if x.what == "member removed")
+    added, gone = ids("member added"), {m for m, _, _ in removed_members}
+    changed = tuple(m for m in c.changed_members if m not in gone and m not in added)
+    return FrameMarks(changed, added, removed_members, ids("node added"), removed_nodes, moved)
 
 
 def display_value(change_value: Any, kind: str, units: Mapping[str, str]) -> Any:

@@ -24,47 +24,54 @@ class TwoColumnTable(Flowable):
     """``make(rows)`` builds one column's table (header included, fixed column widths) of ``rows``."""
 
     def __init__(self, make: Callable[[list], Table | PlainTable], rows: list, space_after: float = 0.0,
-                 measured: tuple[float, tuple[float, list[float]]] | None = None):
+                 measured: tuple[float, float, list[float], int] | None = None):
         super().__init__()
         self.make = make
         self.rows = rows
         self.spaceAfter = space_after
-        # (width, (header height, row heights)): the pieces of a split keep their rows' heights, not laid out again
-        self._width, self._heights = measured if measured is not None else (None, None)
+        # (width, header height, running sums of the row heights of the whole table, where this piece's rows
+        # start in it): the pieces of a split share one measure, never laid out or summed again
+        self._measured = measured
 
     def _column_width(self, avail: float) -> float:
         return (avail - GAP) / 2
 
-    def _measure(self, avail: float) -> tuple[float, list[float]]:
-        """(header height, each row's height) at the column width."""
-        if self._heights is None or self._width != avail:
-            self._heights, self._width = row_heights(self.make(self.rows), self._column_width(avail)), avail
-        return self._heights
+    def _measure(self, avail: float) -> tuple[float, list[float], int]:
+        """(header height, 0 and the running sums of the row heights at the column width, first row)."""
+        if self._measured is None or self._measured[0] != avail:
+            head, heights = row_heights(self.make(self.rows), self._column_width(avail))
+            self._measured = (avail, head, [0.0, *accumulate(heights)], 0)
+        return self._measured[1:]
 
-    @staticmethod
-    def _height(head: float, running: list[float], k: int) -> float:
-        """Height of a page holding rows[:k] on the left and rows[k:2k] on the right (``running``: 0, then the
-        running sums of the row heights)."""
-        k2 = min(2 * k, len(running) - 1)
-        return head + max(running[k], running[k2] - running[k])
+    def _height(self, avail: float, k: int) -> float:
+        """Height of a page holding rows[:k] on the left and rows[k:2k] on the right."""
+        head, running, first = self._measure(avail)
+        left = running[first + min(k, len(self.rows))]
+        right = running[first + min(2 * k, len(self.rows))]
+        return head + max(left - running[first], right - left)
 
     def wrap(self, aW, aH):
-        head, rows = self._measure(aW)
-        self.width, self.height = aW, self._height(head, [0.0, *accumulate(rows)], math.ceil(len(rows) / 2))
+        self.width, self.height = aW, self._height(aW, math.ceil(len(self.rows) / 2))
         return self.width, self.height
 
     def split(self, aW, aH):
-        head, rows = self._measure(aW)
-        running = [0.0, *accumulate(rows)]
-        k = 0
-        while 2 * k < len(rows) and self._height(head, running, k + 1) <= aH:
-            k += 1
+        # the rows a column takes, by halving: ``low`` always fits (or is 0), and with rows of one height (the
+        # page height then grows with k) it is the most that fit
+        low, high = 0, math.ceil(len(self.rows) / 2)
+        while low < high:
+            k = (low + high + 1) // 2
+            if self._height(aW, k) <= aH:
+                low = k
+            else:
+                high = k - 1
+        k = low
         if k == 0:
             return []  # not even one row under the header: start on the next page
         if 2 * k >= len(self.rows):
             return [self]
-        return [TwoColumnTable(self.make, self.rows[:2 * k], 0.0, (aW, (head, rows[:2 * k]))),
-                TwoColumnTable(self.make, self.rows[2 * k:], self.spaceAfter, (aW, (head, rows[2 * k:])))]
+        head, running, first = self._measure(aW)
+        return [TwoColumnTable(self.make, self.rows[:2 * k], 0.0, (aW, head, running, first)),
+                TwoColumnTable(self.make, self.rows[2 * k:], self.spaceAfter, (aW, head, running, first + 2 * k))]
 
     def draw(self):
         if layout_only(self.canv):

@@ -48,6 +48,25 @@ class PlainLook:
     text_colour: object
     space_after: float
 
+    @cached_property
+    def _starts(self) -> tuple[dict, dict | None]:
+        """(cache of formatted starts of right-aligned text, a table that turns every digit into '0' if the
+        font gives all digits one width: numbers of one shape, e.g. '-1,234.56', then share a start)."""
+        font = getFont(self.font)
+        same = len({font.stringWidth(d, 1.0) for d in "0123456789"}) == 1
+        return {}, (str.maketrans("123456789", "000000000") if same else None)
+
+    def right_start(self, column: int, end: float, text: str) -> str:
+        """Where ``text`` starts, formatted, to end at ``end`` in ``column``."""
+        cache, digits = self._starts
+        key = (column, text.translate(digits) if digits else text)
+        start = cache.get(key)
+        if start is None:
+            start = fp_str(end - getFont(self.font).stringWidth(text, self.size))
+            if len(cache) < 100_000:  # shapes of numbers are few; other text need not be kept
+                cache[key] = start
+        return start
+
     @property
     def row_height(self) -> float:
         return self.leading + 2 * self.pad
@@ -140,19 +159,17 @@ class PlainTable(Flowable):
         baseline = (step + look.leading) / 2 - look.size  # above a row's bottom: reportlab's middle alignment
         if self.titled:
             text.put(look.bold, fp_str(0.0, top - step + baseline), look.caption if self.first else look.continued)
-        font = getFont(look.font)
-        name, size = look.font, look.size
-        # a left-aligned cell starts at its column's edge; a right-aligned one ends at the next edge
+        # a left-aligned cell starts at its column's edge; a right-aligned one ends at the next edge, and
+        # starts where its text's width says (found once per shape of number: see PlainLook.right_start)
         starts = [fp_str(edges[c] + look.side) for c in range(len(widths))]
         ends = [edges[c + 1] - look.side if c in look.right else None for c in range(len(widths))]
+        right_start = look.right_start
+        put = text.writer(look.font)
         for i, row in enumerate(self.rows):
             y = " " + fp_str(body_top - (i + 1) * step + baseline)
-            for value, start, end in zip(row, starts, ends):
+            for c, (value, start, end) in enumerate(zip(row, starts, ends)):
                 value = value if isinstance(value, str) else str(value)
-                if end is None:
-                    text.put(name, start + y, value)
-                else:
-                    text.put(name, fp_str(end - font.stringWidth(value, size)) + y, value)
+                put((start if end is None else right_start(c, end, value)) + y, value)
         text.close()
         if self.titled:
             for p, x, h in zip(look.header, edges, look.header_heights):
@@ -190,11 +207,29 @@ class _TextWriter:
             self.parts.append(font.getSubsetInternalName(subset, self.doc) + self.tail)
             self.current = (name, subset)
 
-    def put(self, name: str, at: str, text: str) -> None:
-        """``text`` in font ``name`` starting at ``at`` ('x y', formatted)."""
+    def writer(self, name: str):
+        """``put`` for font ``name``, with the common case (every character in the first subset) inline."""
+        codes = self._codes(name)
+        parts, key, slow = self.parts, (name, 0), self.put
+
+        def put(at: str, text: str) -> None:
+            codes.missed = False
+            encoded = text.translate(codes)
+            if codes.missed or self.current != key:
+                slow(name, at, text)
+            else:
+                parts.append(f"1 0 0 1 {at} Tm ({encoded}) Tj")
+        return put
+
+    def _codes(self, name: str) -> _Codes:
         codes = self.codes.get(name)
         if codes is None:
             codes = self.codes[name] = _Codes(getFont(name), self.doc)
+        return codes
+
+    def put(self, name: str, at: str, text: str) -> None:
+        """``text`` in font ``name`` starting at ``at`` ('x y', formatted)."""
+        codes = self._codes(name)
         codes.missed = False
         encoded = text.translate(codes)
         if not codes.missed:

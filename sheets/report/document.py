@@ -5,8 +5,11 @@ project, number, calculation, sheet n of N, revision, date, prepared by,
 checked by), a running head naming the section, and a footer with the short
 caution and the input fingerprint. Headings become PDF bookmarks (outline) and
 contents entries. "Sheet n of N" needs N before the last page is laid out:
-the document is built in passes (reportlab's multiBuild) until the contents and
-the page count agree with the previous pass.
+the document is laid out in passes (reportlab's multiBuild) until the contents
+and the page count agree with the previous pass. Those passes only find where
+things land: tables, figures and page decorations skip drawing in them
+(``layout_only``), and one last pass, laid out as the settled one, draws the
+whole set.
 
 Bytes are deterministic: reportlab's invariant mode, and the PDF creation date
 taken from the project's date, never the clock.
@@ -14,6 +17,7 @@ taken from the project's date, never the clock.
 
 from __future__ import annotations
 
+import io
 import re
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -34,6 +38,14 @@ VALUE_SIZE = 7.5
 ROW_HEIGHT = 19.0  # points per title-block row
 FOOTER_HEIGHT = 17.0
 HEAD_HEIGHT = 14.0
+
+
+LAYOUT_ONLY = "sheets_layout_only"  # set on the canvas of a pass that lays out and draws nothing costly
+
+
+def layout_only(canvas) -> bool:
+    """True while the document is laid out to find page numbers: a flowable may skip drawing."""
+    return getattr(canvas, LAYOUT_ONLY, False)
 
 
 @contextmanager
@@ -119,6 +131,7 @@ class SheetDocument(BaseDocTemplate):
         self.total_pages: int | None = None
         self.pages_seen = 0
         self.running_head = ""
+        self.drawing = True  # False in the passes that only lay out
         width, height = template.page_size
         m = template.margin
         rows = self.block_rows()
@@ -154,7 +167,41 @@ class SheetDocument(BaseDocTemplate):
         return self.template.page_size[1] - 2 * self.template.margin - FOOTER_HEIGHT - self.block_height - 8 - HEAD_HEIGHT - 8
 
     # -- build hooks ------------------------------------------------------------
+    def multiBuild(self, story, maxPasses=10, **kw):
+        """Lay out without drawing until the contents and page count settle, then build once more, drawing.
+
+        reportlab's own multiBuild draws every pass. This loop follows it (indexing flowables told before
+        and after each pass, its edits to the story undone between passes) but gives the passes before the
+        layout settles a canvas marked ``layout_only`` that writes to a scratch buffer. The settled pass
+        leaves every indexing flowable with what it found, so the drawing pass lays out the same pages and
+        is satisfied at once; were it not, the loop goes on, drawing, until it is. Returns the passes made."""
+        self._indexingFlowables = [f for f in story if f.isIndexing()]
+        self._doSave = 0  # the canvas is saved here, once, after the drawing pass
+        edits: list = []
+        self._multiBuildEdits = edits.append
+        self.drawing = False
+        try:
+            for passes in range(1, maxPasses + 2):
+                for f in self._indexingFlowables:
+                    f.beforeBuild()
+                self.build(story[:], None if self.drawing else io.BytesIO(), **kw)
+                for f in self._indexingFlowables:
+                    f.afterBuild()
+                settled = self._allSatisfied()
+                if settled and self.drawing:
+                    self.canv.save()
+                    return passes
+                while edits:  # undo what the pass changed on the story's flowables (e.g. keepWithNext)
+                    edit = edits.pop(0)
+                    edit[0](*edit[1:])
+                self.drawing = self.drawing or settled
+            raise IndexError(f"the contents and page count did not settle in {maxPasses} passes")
+        finally:
+            self.drawing = True
+            del self._multiBuildEdits
+
     def beforeDocument(self):
+        setattr(self.canv, LAYOUT_ONLY, not self.drawing)
         formatter = pdf_date(self.metadata.date)
         if formatter is not None:
             self.canv.setDateFormatter(formatter)
@@ -195,6 +242,8 @@ class SheetDocument(BaseDocTemplate):
         return str(getattr(self.info, field, "") or "-")
 
     def _decorate(self, canvas, doc):
+        if layout_only(canvas):
+            return
         t = self.template
         width, height = t.page_size
         m = t.margin

@@ -14,6 +14,7 @@ from reportlab.platypus import Paragraph
 
 from sheets.analysis.analyse import case_self_weight
 from sheets.report.columns import GAP, TwoColumnTable
+from sheets.report.plain_table import PlainTable
 from sheets.report.tables import COMPACT_FONT, Styles, escape, fmt, table, ulabel
 
 PADDING = 6.5  # points of cell padding, left and right together, and a little air
@@ -30,8 +31,15 @@ def long_table(sheet, st: Styles, header: list[str], rows: list[list], *, two_co
     widths = fit_widths(header, rows, (sheet.width - GAP) / 2, st, max(COMPACT_FONT, st.cell.fontSize - 1))
     kw = {k: v for k, v in kw.items() if k not in ("total_width", "widths")}
     number = st.numbering.next("Table")  # one number for every column and page the table runs over
-    return TwoColumnTable(lambda part: table(st, header, part, compact=True, widths=widths, number=number, whole=True, **kw), rows,
-                          space_after=st.body.fontSize * 0.8)
+    whole = table(st, header, rows, compact=True, widths=widths, number=number, whole=True, **kw)
+    if isinstance(whole, PlainTable):
+        make = whole.with_rows  # the caption and header made once for every column
+    else:
+        def make(part):
+            if part is rows:
+                return whole
+            return table(st, header, part, compact=True, widths=widths, number=number, whole=True, **kw)
+    return TwoColumnTable(make, rows, space_after=st.body.fontSize * 0.8)
 
 
 def fit_widths(header: list[str], rows: list[list], total: float, st: Styles, size: float) -> list[float]:

@@ -17,6 +17,7 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, Paragraph, Table, TableStyle
 
 from sheets.report.fonts import Fonts
+from sheets.report.plain_table import PlainLook, PlainTable
 
 GRID = colors.HexColor("#999999")
 HEAD_FILL = colors.HexColor("#E8E8E8")
@@ -136,13 +137,16 @@ def escape(text: str) -> str:
 
 
 CHUNK_ROWS = 250  # rows of one part of a long table (see ``PartedTable``)
+WRAP_ABOVE = 28  # characters: longer text is set as a paragraph that wraps in its cell
+PAD_SIDE = 3.0  # points of cell padding left and right
 
 
 class PartedTable(Flowable):
-    """A long table given to the page layout as consecutive parts of CHUNK_ROWS rows, each with the caption
-    (marked 'continued') and header. reportlab splits one table at a page end by laying out all the rows
-    left again, so a table of n rows costs time growing as n squared (a 20,000-member frame took minutes);
-    parts keep it linear. Never drawn whole: the frame always splits it into its parts."""
+    """A long reportlab table given to the page layout as consecutive parts of CHUNK_ROWS rows, each with
+    the caption (marked 'continued') and header. reportlab splits one table at a page end by laying out all
+    the rows left again, so a table of n rows costs time growing as n squared; parts keep it linear. Only
+    tables with cells that wrap need it (``PlainTable`` splits by arithmetic). Never drawn whole: the frame
+    always splits it into its parts."""
 
     def __init__(self, parts: list[Table]):
         super().__init__()
@@ -174,14 +178,20 @@ def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[i
     number comes from ``styles.numbering``; text that refers to the table takes it first with
     ``styles.numbering.ahead("Table")``. A table set in parts (two columns a page) takes its number
     once and passes it as ``number``. ``compact`` sets a long table in smaller type with tighter
-    padding, so every row fits in fewer pages. Above CHUNK_ROWS rows the table is laid out in parts
-    (``PartedTable``) with one set of column widths, unless ``whole`` asks for one Table (for a caller
-    that measures and places the rows itself, as the two-column layout does).
+    padding, so every row fits in fewer pages.
+
+    The one place that decides how a table is made: with its column widths known and every cell one
+    short line, a ``PlainTable`` (pieces after the first captioned 'Table N (continued).'); else
+    reportlab's Table, laid out above CHUNK_ROWS rows in parts (``PartedTable``) with one set of column
+    widths, unless ``whole`` asks for one Table (for a caller that measures and places the rows itself).
     """
     number = number or styles.numbering.next("Table")
     caption = f"{number}." + (f" {title}" if title else "")  # plain text: fits any column widths
     if widths is None and total_width is not None:
         widths = _auto_widths(header, rows, total_width)
+    if widths is not None and _single_lines(rows):
+        return PlainTable(_plain_look(styles, caption, f"{number} (continued).", header, numeric or set(), widths, repeat,
+                                      compact), rows, frozenset(highlight or ()))
     if whole or len(rows) <= CHUNK_ROWS:
         return _grid(styles, caption, header, rows, numeric or set(), widths, highlight or [], repeat, compact)
     parts = []
@@ -194,16 +204,44 @@ def table(styles: Styles, header: list[str], rows: list[list], *, numeric: set[i
     return PartedTable(parts)
 
 
-def _grid(styles: Styles, caption: str, header: list[str], rows: list[list], numeric: set[int], widths, highlight: list[int],
-          repeat: bool, compact: bool) -> Table:
+def _single_lines(rows: list[list]) -> bool:
+    """True if every cell is text or a number printed on one line (none long enough to wrap)."""
+    for row in rows:
+        for v in row:
+            if isinstance(v, Flowable) or isinstance(v, (list, tuple)):
+                return False
+            text = v if isinstance(v, str) else str(v)
+            if len(text) > WRAP_ABOVE or "\n" in text:
+                return False
+    return True
+
+
+def _cell_styles(styles: Styles, compact: bool) -> tuple[ParagraphStyle, ParagraphStyle, float]:
+    """(body cell style, header cell style, top and bottom padding) of a table, compact or not."""
     cell, cell_head, pad = styles.cell, styles.cell_head, 1.5
     if compact:
         small = min(cell.fontSize, max(COMPACT_FONT, cell.fontSize - 1))
         cell = ParagraphStyle("cell_compact", parent=cell, fontSize=small, leading=small * 1.15)
         cell_head = ParagraphStyle("cell_head_compact", parent=cell_head, fontSize=small, leading=small * 1.15)
         pad = 0.8
+    return cell, cell_head, pad
+
+
+def _plain_look(styles: Styles, caption: str, continued: str, header: list[str], numeric: set[int], widths, repeat: bool,
+                compact: bool) -> PlainLook:
+    cell, cell_head, pad = _cell_styles(styles, compact)
+    return PlainLook(font=styles.fonts.regular, bold=styles.fonts.bold, size=cell.fontSize, leading=cell.leading, pad=pad,
+                     side=PAD_SIDE, widths=tuple(widths), right=frozenset(numeric),
+                     header=tuple(Paragraph(escape(h), cell_head) for h in header), caption=caption, continued=continued,
+                     repeat=repeat, line_width=0.3, line_colour=GRID, head_fill=HEAD_FILL, mark_fill=FAIL_FILL,
+                     text_colour=colors.black, space_after=styles.body.fontSize * 0.8)
+
+
+def _grid(styles: Styles, caption: str, header: list[str], rows: list[list], numeric: set[int], widths, highlight: list[int],
+          repeat: bool, compact: bool) -> Table:
+    cell, cell_head, pad = _cell_styles(styles, compact)
     head = [Paragraph(escape(h), cell_head) for h in header]
-    body = [[Paragraph(escape(v), cell) if isinstance(v, str) and len(v) > 28 else v for v in row] for row in rows]
+    body = [[Paragraph(escape(v), cell) if isinstance(v, str) and len(v) > WRAP_ABOVE else v for v in row] for row in rows]
     # splitByRow: a table longer than the page continues on the next one, under its repeated caption and header
     t = Table([[caption] + [""] * (len(header) - 1), head] + body, colWidths=widths, repeatRows=2 if repeat else 0,
               hAlign="LEFT", splitByRow=1)
@@ -217,8 +255,8 @@ def _grid(styles: Styles, caption: str, header: list[str], rows: list[list], num
         ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
         ("TOPPADDING", (0, 0), (-1, -1), pad),
         ("BOTTOMPADDING", (0, 0), (-1, -1), pad),
-        ("LEFTPADDING", (0, 0), (-1, -1), 3),
-        ("RIGHTPADDING", (0, 0), (-1, -1), 3),
+        ("LEFTPADDING", (0, 0), (-1, -1), PAD_SIDE),
+        ("RIGHTPADDING", (0, 0), (-1, -1), PAD_SIDE),
         ("LEFTPADDING", (0, 0), (0, 0), 0),
     ]
     for c in sorted(numeric):

@@ -34,6 +34,8 @@ from reportlab.lib.utils import ImageReader
 from reportlab.pdfgen.canvas import Canvas
 from reportlab.platypus import Flowable
 
+from sheets.report.document import layout_only
+
 _CAP = {"butt": 0, "round": 1, "projecting": 2}
 _JOIN = {"miter": 0, "round": 1, "bevel": 2}
 
@@ -449,6 +451,8 @@ class VectorFlowable(Flowable):
         return self.width, self.height
 
     def draw(self):
+        if layout_only(self.canv):
+            return  # a pass that only finds where things land (see document.SheetDocument.multiBuild)
         x = (self.width - self.figure.width * self.scale) / 2
         self.figure.draw(self.canv, x, 0, self.scale)
 

@@ -1,4 +1,4 @@
-"""A long table is laid out in parts: every row printed once, in order, starting anywhere on a page."""
+"""A long table of cells that wrap is laid out in parts: every row printed once, in order, starting anywhere on a page."""
 
 from __future__ import annotations
 
@@ -15,8 +15,9 @@ from sheets.report.tables import CHUNK_ROWS, PartedTable, make_styles, table
 def test_a_long_table_prints_every_row_once_in_order():
     styles = make_styles(register_fonts(), 8.0)
     n = 2 * CHUNK_ROWS + 37
-    rows = [[f"R{i:04d}", f"{i * 0.5:.1f}"] for i in range(n)]
-    long = table(styles, ["Row", "Value"], rows, numeric={1}, title="Every row", highlight=[3, CHUNK_ROWS + 1])
+    # a note long enough to wrap makes it a reportlab table (one-line cells make a PlainTable)
+    rows = [[f"R{i:04d}", f"{i * 0.5:.1f}", "a note long enough to wrap in its cell" if i % 40 == 0 else "-"] for i in range(n)]
+    long = table(styles, ["Row", "Value", "Note"], rows, numeric={1}, title="Every row", highlight=[3, CHUNK_ROWS + 1])
     assert isinstance(long, PartedTable) and len(long.parts) == 3
     buffer = io.BytesIO()
     story = [Paragraph("A paragraph first, so the table starts part way down the page.", styles.body)] * 12 + [long]

@@ -8,8 +8,9 @@ interrupted build leaves either the whole entry or none. An entry that cannot
 be read back (a damaged disk, a foreign file) counts as missing and is removed:
 the cache can only make a build faster, never change what it writes.
 
-The cache holds pickles of the project's own values; it lives beside the
-outputs (``.sheets-cache``), and only files it made itself are ever removed.
+The cache holds pickles of the project's own values; a build keeps it beside
+its sets (``.sheets-sets/<name>/cache/``, sheets.build), and only files it made
+itself are ever removed.
 """
 
 from __future__ import annotations
@@ -32,20 +33,22 @@ import numpy as np
 from sheets import __version__
 
 T = TypeVar("T")
-# the project's read-only tables (materials, sections) are mapping proxies, which pickle cannot store as they are
-def _mapping_proxy(items: dict) -> MappingProxyType:
-    return MappingProxyType(items)
-
-
-copyreg.pickle(MappingProxyType, lambda proxy: (_mapping_proxy, (dict(proxy),)))
 Remember = Callable[[str, tuple, Callable[[], Any]], Any]  # (stage, inputs, make) -> make()'s value, perhaps stored
+ENTRY_SUFFIX = ".entry"
+PART_PREFIX = ".part-"
 
 
 def no_cache(stage: str, inputs: tuple, make: Callable[[], T]) -> T:
     """The ``Remember`` of a build without a cache: make everything."""
     return make()
-ENTRY_SUFFIX = ".entry"
-PART_PREFIX = ".part-"
+
+
+def _mapping_proxy(items: dict) -> MappingProxyType:
+    return MappingProxyType(items)
+
+
+# the project's read-only tables (materials, sections) are mapping proxies, which pickle cannot store as they are
+copyreg.pickle(MappingProxyType, lambda proxy: (_mapping_proxy, (dict(proxy),)))
 
 
 def _encode(value: Any, out: "hashlib._Hash") -> None:

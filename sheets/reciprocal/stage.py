@@ -101,9 +101,9 @@ def project_diagrams(analysis: Analysis, state_ids: Iterable[str], progress=None
     out = {}
     for sid in state_ids:
         note(f"diagrams: {sid}")
-        inputs = (design, analysis.state(sid), frame)
-        key = content_key("state diagrams", *inputs) if remember is not no_cache else ""
-        made = remember("state diagrams", inputs, lambda: state_diagrams(analysis, sid, complex_, frame=frame))
+        # the key of what the diagrams depend on, made once: it labels them for the figures and keys the cache
+        key = content_key("state diagrams", design, analysis.state(sid), frame) if remember is not no_cache else ""
+        made = remember("state diagrams", (key,), lambda: state_diagrams(analysis, sid, complex_, frame=frame))
         out[sid] = dataclasses.replace(made, key=key)
     return out
 

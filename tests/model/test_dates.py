@@ -10,7 +10,7 @@ from __future__ import annotations
 import pytest
 
 from sheets.model import load_project
-from test_loading_errors import BASE, broken, line_of, only, problems, write
+from test_loading_errors import broken, line_of, only, problems, write
 
 REVISIONS = """
 [[project.revisions]]

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from test_loading_errors import BASE, broken, line_of, only, problems, write
+from test_loading_errors import broken, line_of, only, problems, write
 
 from sheets.analysis import analyse
 from sheets.model import load_project

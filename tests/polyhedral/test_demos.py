@@ -4,7 +4,6 @@ load path theorem (sum t L = sum f . x; Maxwell 1870, Trans. R. Soc. Edinburgh 2
 import json
 from pathlib import Path
 
-import numpy as np
 import pytest
 
 from sheets.analysis import analyse

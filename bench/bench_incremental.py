@@ -14,6 +14,13 @@ stage made anew) in the same run. Two ways:
 
 Prints the seconds of each and the ratio rebuild / full, and what the rebuild made and reused;
 never a pass/fail. The target of the project: a ratio of 0.30 or less for the largest demo.
+
+And how far the change reaches, in one process: the pages of the set that differ from the
+previous revision's (each page rendered at 72 dpi with pypdfium2, a test extra, the title block
+and footer left out: they carry the input fingerprint, which every change moves), and the
+rebuild's own stage times. From those, a floor: the rebuild as it is, but with the PDF stage
+costing only the full build's PDF time times the share of pages that changed, i.e. a PDF made
+by parts that kept every page the change does not reach for nothing.
 """
 
 from __future__ import annotations
@@ -33,8 +40,10 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from sheets.build import build_sheets  # noqa: E402
+from sheets.build import BUILD_STAGES, build_sheets  # noqa: E402
 from sheets.model import load_project  # noqa: E402
+from sheets.report.document import FOOTER_HEIGHT, ROW_HEIGHT, SheetDocument  # noqa: E402
+from sheets.report.templates import load_template  # noqa: E402
 
 DEFAULT = ROOT / "demo_projects" / "atrium_grid" / "atrium_grid.toml"
 
@@ -55,19 +64,66 @@ def raise_one_load(project: Path, case_id: str) -> str:
                     csv.writer(buffer, lineterminator="\n").writerows(rows)
                     path.write_text(buffer.getvalue(), encoding="utf-8")
                     return f"{path.name}: node {row[0]} {rows[0][c]} {value} -> {row[c]}"
-    found = re.search(r"(loads\.\w+\s*=\s*\[\s*)([-\d.]+)", block.group(1)) if block else None
-    if found is None or float(found.group(2)) == 0:
-        raise SystemExit(f"no load value to change in case {case_id} of {project}")
-    old = found.group(0)
-    new = f"{found.group(1)}{float(found.group(2)) * 1.1:.6g}"
-    project.write_text(text.replace(old, new, 1), encoding="utf-8")
-    return f"{project.name}: {old.strip()} -> {new.strip()}"
+    if block:  # loads written in the project file: the first non-zero component of a load vector
+        for line in re.finditer(r"^loads\b.*$", block.group(1), re.M):
+            for vector in re.finditer(r"\[([^\[\]]*)\]", line.group(0)):
+                for number in re.finditer(r"-?[\d.]+(?:[eE][-+]?\d+)?", vector.group(1)):
+                    if float(number.group(0)) != 0:
+                        at = block.start(1) + line.start() + vector.start(1) + number.start()
+                        old, new = number.group(0), f"{float(number.group(0)) * 1.1:.6g}"
+                        project.write_text(text[:at] + new + text[at + len(old):], encoding="utf-8")
+                        return f"{project.name}: {line.group(0).split('=')[0].strip()} {old} -> {new}"
+    raise SystemExit(f"no load value to change in case {case_id} of {project}")
 
 
 def timed(call) -> tuple[float, object]:
     start = time.perf_counter()
     value = call()
     return time.perf_counter() - start, value
+
+
+class StageClock:
+    """The seconds of each build stage, from the build's progress notes (``BUILD_STAGES``)."""
+
+    def __init__(self):
+        self.marks: list[tuple[str, float]] = []
+
+    def __call__(self, message: str) -> None:
+        if message in BUILD_STAGES:
+            self.marks.append((message, time.perf_counter()))
+
+    def seconds(self, end: float) -> dict[str, float]:
+        ends = [t for _, t in self.marks[1:]] + [end]
+        return {stage: stop - start for (stage, start), stop in zip(self.marks, ends)}
+
+
+def timed_stages(call) -> tuple[float, dict[str, float], object]:
+    clock = StageClock()
+    start = time.perf_counter()
+    value = call(clock)
+    end = time.perf_counter()
+    return end - start, clock.seconds(end), value
+
+
+def page_bodies(pdf: Path, project: Path) -> list:
+    """Each page rendered at 72 dpi, without the title block and footer below the body frame."""
+    import pypdfium2
+
+    loaded = load_project(project)
+    template = load_template(loaded.info.template, project.parent, loaded.source)
+    rows = SheetDocument.block_rows(type("Fields", (), {"template": template})())
+    below = template.margin + FOOTER_HEIGHT + ROW_HEIGHT * len(rows) + 4  # points, as the page frame
+    document = pypdfium2.PdfDocument(pdf.read_bytes())
+    bodies = []
+    for page in document:
+        pixels = page.render(scale=1).to_numpy()
+        bodies.append(pixels[: pixels.shape[0] - int(below + 1)].tobytes())
+    return bodies
+
+
+def changed_pages(before: list, after: list) -> int:
+    """Pages that differ (a page added or removed counts as changed)."""
+    return sum(a != b for a, b in zip(before, after)) + abs(len(before) - len(after))
 
 
 def command(project: Path, out: Path, force: bool) -> float:
@@ -92,14 +148,19 @@ def main(argv=None) -> int:
         cases = [c.id for c in load_project(project).cases]
         out, baseline = Path(scratch) / "sets" / "rebuilt", Path(scratch) / "sets" / "full"
         print(f"{args.project.name}: {load_project(project).n_members} members, cases {', '.join(cases)}")
-        build_sheets(project, out)  # warm-up: imports, and the cache of this revision
-        rows = []
+        result = build_sheets(project, out)  # warm-up: imports, and the cache of this revision
+        rows, reach = [], []
         for case_id in cases:
+            before = page_bodies(result.pdf, project)
             what = raise_one_load(project, case_id)
-            rebuild, result = min((timed(lambda: build_sheets(project, out)) for _ in range(args.repeat)),
-                                  key=lambda t: t[0])
-            full, _ = timed(lambda: build_sheets(project, baseline, force=True))
+            rebuild, stages, result = min((timed_stages(lambda clock: build_sheets(project, out, clock))
+                                           for _ in range(args.repeat)), key=lambda t: t[0])
+            full, full_stages, _ = timed_stages(lambda clock: build_sheets(project, baseline, clock, force=True))
             rows.append(("one process", case_id, what, full, rebuild, result.stages))
+            after = page_bodies(result.pdf, project)
+            share = changed_pages(before, after) / max(len(before), len(after))
+            floor = rebuild - stages["assembly"] + full_stages["assembly"] * share
+            reach.append((case_id, changed_pages(before, after), len(after), stages, full_stages, floor / full))
             if not args.no_commands:
                 raise_one_load(project, case_id)  # another change, so the command's rebuild has one to make
                 rebuild_cmd = command(project, out, force=False)
@@ -110,6 +171,12 @@ def main(argv=None) -> int:
             print(f"{how:<12} {case_id:<5} {full:7.2f} {rebuild:9.2f} {rebuild / full:6.2f}  {what if how == 'one process' else ''}")
             if stages:
                 print(f"{'':<12} {'':<5} {'':>7} {'':>9} {'':>6}  {stages}")
+        print("\nHow far each change reaches (one process); stage seconds rebuild / full:")
+        for case_id, changed, pages, stages, full_stages, floor in reach:
+            times = ", ".join(f"{k} {stages.get(k, 0):.2f}/{full_stages.get(k, 0):.2f}" for k in full_stages
+                              if full_stages[k] >= 0.05)
+            print(f"  {case_id}: {changed} of {pages} pages changed; {times}")
+            print(f"      floor with a PDF made by parts that kept every unchanged page for free: {floor:.2f} of the full build")
     return 0
 
 

@@ -56,6 +56,7 @@ from matplotlib.figure import Figure
 
 from sheets.analysis import Analysis
 from sheets.cache import MISSING, StageCache, content_key, without_loads
+from sheets.report.pdf_image import PdfImage, from_png
 from sheets.render import form_figure
 from sheets.report.templates import Template
 from sheets.report.vector import VECTOR_SUFFIX, VectorFigure, read_vector_file, record
@@ -74,6 +75,7 @@ class SheetFigure:
     png: bytes | None = None  # raster views (3D renders)
     png_size: tuple[int, int] = (0, 0)  # pixels
     file: bytes = b""  # the file for figures/, made where the figure is drawn (``with_file``)
+    image: PdfImage | None = None  # the PNG as a PDF image stream, made there too (``with_file``)
 
     @property
     def file_name(self) -> str:
@@ -83,9 +85,11 @@ class SheetFigure:
         return self.vector.pdf_bytes(self.title, author) if self.vector is not None else self.png
 
     def with_file(self, author: str) -> "SheetFigure":
-        """This figure with its file made (compressing a vector figure's PDF is much of its cost:
-        done in the worker that drew it, and kept with it in the stage cache)."""
-        return dataclasses.replace(self, file=self.file_bytes(author))
+        """This figure with its file made, and a raster figure with its PDF image stream (compressing a
+        vector figure's PDF, or decoding a view with alpha, is much of its cost: done in the worker that
+        drew it, and kept with it in the stage cache, so the PDF stage only places them)."""
+        image = from_png(self.png) if self.png is not None else None
+        return dataclasses.replace(self, file=self.file_bytes(author), image=image)
 
 
 @dataclass(frozen=True)

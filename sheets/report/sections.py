@@ -8,13 +8,12 @@ Section titles are plain words of our own.
 
 from __future__ import annotations
 
-import io
 from dataclasses import dataclass, field
 from functools import cached_property
 from typing import Any, Callable
 
 import numpy as np
-from reportlab.platypus import Flowable, Image, KeepTogether, PageBreak, Paragraph, Spacer, TableStyle
+from reportlab.platypus import Flowable, KeepTogether, PageBreak, Paragraph, Spacer, TableStyle
 from reportlab.platypus.tableofcontents import TableOfContents
 
 from sheets import __version__
@@ -25,6 +24,7 @@ from sheets.model.project import AXES
 from sheets.report.document import Heading
 from sheets.report.echo import basis_given, case_load_table, long_table, member_table, node_table
 from sheets.report.figures import SheetFigure, state_label
+from sheets.report.pdf_image import ImageFlowable, from_png
 from sheets.report.tables import Styles, escape, fmt, key_value, table, ulabel
 from sheets.report.templates import Template
 from sheets.report.vector import VectorFlowable
@@ -89,9 +89,9 @@ def figure(fig: SheetFigure, sheet: SheetSet, st: Styles, number: str = "") -> l
     if fig.vector is not None:
         body: Flowable = VectorFlowable(fig.vector, max_width=sheet.width, max_height=max_h)
     else:
-        w, h = fig.png_size
-        scale = min(sheet.width / w, max_h / h)
-        body = Image(io.BytesIO(fig.png), width=w * scale, height=h * scale)
+        image = fig.image or from_png(fig.png)  # made with the figure's file where it was drawn, as a rule
+        scale = min(sheet.width / image.width, max_h / image.height)
+        body = ImageFlowable(image, image.width * scale, image.height * scale)
     number = number or st.numbering.next("Figure")
     caption = para(f"<b>{escape(number)}. {escape(fig.title)}.</b> {escape(fig.caption)} "
                    f"<font color='#555555'>(figures/{escape(fig.file_name)})</font>", st, "caption")

@@ -30,11 +30,11 @@ import numpy as np
 from matplotlib.backend_bases import FigureCanvasBase, RendererBase, register_backend
 from matplotlib.figure import Figure
 from matplotlib.path import Path as MplPath
-from reportlab.lib.utils import ImageReader
 from reportlab.pdfgen.canvas import Canvas
 from reportlab.platypus import Flowable
 
 from sheets.report.document import layout_only
+from sheets.report.pdf_image import draw_image, from_pixels
 
 _CAP = {"butt": 0, "round": 1, "projecting": 2}
 _JOIN = {"miter": 0, "round": 1, "bevel": 2}
@@ -57,7 +57,7 @@ class VectorFigure:
     width: float  # pt
     height: float  # pt
     # ("path", path operators, style operators, (fill alpha, stroke alpha), paint operator, clip)
-    # | ("image", x, y, w, h, png, clip); clip is a path in operators, or None
+    # | ("image", x, y, w, h, PdfImage, clip); clip is a path in operators, or None
     ops: tuple
     smallest_text: float = float("inf")  # pt at scale 1: the smallest type size drawn (as glyph outlines)
 
@@ -92,8 +92,8 @@ class VectorFigure:
                     style = op_style
                 canvas.addLiteral(f"{code} {paint}")
             else:
-                _, ix, iy, iw, ih, png, _clip = op
-                canvas.drawImage(ImageReader(io.BytesIO(png)), ix, iy, iw, ih, mask="auto")
+                _, ix, iy, iw, ih, image, _clip = op
+                draw_image(canvas, image, ix, iy, iw, ih)
         if clipped:
             canvas.restoreState()
         canvas.restoreState()
@@ -394,12 +394,10 @@ class Recorder(RendererBase):
         super().draw_text(gc, x, y, s, prop, angle, ismath=ismath, mtext=mtext)
 
     def draw_image(self, gc, x, y, im, transform=None):
-        from PIL import Image
-
+        # matplotlib hands the rows bottom first; the image stream is made here, once (sheets.report.pdf_image)
         h, w = im.shape[:2]
-        buf = io.BytesIO()
-        Image.fromarray(np.asarray(im)[::-1], "RGBA").save(buf, format="PNG", optimize=False)
-        self.ops.append(("image", float(x), float(y), float(w), float(h), buf.getvalue(), self._clip(gc)))
+        self.ops.append(("image", float(x), float(y), float(w), float(h), from_pixels(np.asarray(im)[::-1]),
+                         self._clip(gc)))
 
 
 def record(figure: Figure, bulk: bool = True) -> VectorFigure:

@@ -129,11 +129,11 @@ class _ImageStream(PDFObject):
         return PDFStream(entries, image.data).format(document)
 
 
-def _register(canvas, image: PdfImage) -> str:
+def register_image(canvas, image: PdfImage) -> str:
     """The image's XObject in the canvas's document, made the first time it is drawn; its resource name.
 
-    Follows what reportlab's ``Canvas.drawImage`` does with the image it makes (its document's
-    name table, and the page's list of forms in use), with the stream made beforehand."""
+    Does with a ready-made stream what reportlab's ``Canvas.drawImage`` does with the image it makes:
+    the document's name table, and (``place``) the page's list of forms in use."""
     doc = canvas._doc
     name = doc.getXObjectName(image.name)
     if doc.idToObject.get(name) is None:
@@ -145,16 +145,21 @@ def _register(canvas, image: PdfImage) -> str:
     return name
 
 
-def draw_image(canvas, image: PdfImage, x: float, y: float, width: float, height: float) -> None:
-    """Draw ``image`` into the rectangle at (x, y) of ``width`` x ``height`` points."""
-    name = _register(canvas, image)
-    canvas._currentPageHasImages = 1
+def place(canvas, key: str, name: str, x: float, y: float, sx: float, sy: float) -> None:
+    """Draw the registered XObject ``name`` (document key ``key``) scaled by (sx, sy) at (x, y) on this page."""
     canvas.saveState()
     canvas.translate(x, y)
-    canvas.scale(width, height)
+    canvas.scale(sx, sy)
     canvas._code.append(f"/{name} Do")
     canvas.restoreState()
-    canvas._formsinuse.append(image.name)
+    canvas._formsinuse.append(key)  # the page's resources name it (Canvas._setXObjects at showPage)
+
+
+def draw_image(canvas, image: PdfImage, x: float, y: float, width: float, height: float) -> None:
+    """Draw ``image`` into the rectangle at (x, y) of ``width`` x ``height`` points."""
+    name = register_image(canvas, image)
+    canvas._currentPageHasImages = 1
+    place(canvas, image.name, name, x, y, width, height)
 
 
 class ImageFlowable(Flowable):

@@ -24,6 +24,7 @@ from __future__ import annotations
 import io
 import pickle
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
 
 import numpy as np
@@ -34,7 +35,8 @@ from reportlab.pdfgen.canvas import Canvas
 from reportlab.platypus import Flowable
 
 from sheets.report.document import layout_only
-from sheets.report.pdf_image import draw_image, from_pixels
+from sheets.report.pdf_form import PdfForm, draw_form, pdf_form
+from sheets.report.pdf_image import from_pixels
 
 _CAP = {"butt": 0, "round": 1, "projecting": 2}
 _JOIN = {"miter": 0, "round": 1, "bevel": 2}
@@ -61,42 +63,15 @@ class VectorFigure:
     ops: tuple
     smallest_text: float = float("inf")  # pt at scale 1: the smallest type size drawn (as glyph outlines)
 
+    @cached_property
+    def form(self) -> PdfForm:
+        """The figure as one PDF form XObject, compressed (sheets.report.pdf_form); made on first use, and
+        pickled with the figure from then on (the worker that draws a figure makes it)."""
+        return pdf_form(self.width, self.height, self.ops)
+
     def draw(self, canvas: Canvas, x: float, y: float, scale: float = 1.0) -> None:
-        """Replay onto ``canvas`` at (x, y); operators go in as literals, styles only where they change."""
-        canvas.saveState()
-        canvas.translate(x, y)
-        canvas.scale(scale, scale)
-        current_clip = None
-        clipped = False
-        style = alpha = None
-        for op in self.ops:
-            clip = op[-1]
-            if clip != current_clip:
-                if clipped:
-                    canvas.restoreState()  # Q also resets colours and alpha: set them again
-                    clipped = False
-                    style = alpha = None
-                if clip is not None:
-                    canvas.saveState()
-                    clipped = True
-                    canvas.addLiteral(f"{clip} W n")
-                current_clip = clip
-            if op[0] == "path":
-                _, code, op_style, op_alpha, paint, _clip = op
-                if op_alpha != alpha:
-                    canvas.setFillAlpha(op_alpha[0])
-                    canvas.setStrokeAlpha(op_alpha[1])
-                    alpha = op_alpha
-                if op_style != style:
-                    canvas.addLiteral(op_style)
-                    style = op_style
-                canvas.addLiteral(f"{code} {paint}")
-            else:
-                _, ix, iy, iw, ih, image, _clip = op
-                draw_image(canvas, image, ix, iy, iw, ih)
-        if clipped:
-            canvas.restoreState()
-        canvas.restoreState()
+        """Place the figure on ``canvas`` at (x, y), scaled."""
+        draw_form(canvas, self.form, x, y, scale)
 
     def pdf_bytes(self, title: str = "", author: str = "") -> bytes:
         """A one-page PDF of just this figure (deterministic bytes)."""

@@ -161,8 +161,9 @@ def test_pages_render_and_are_not_blank(built):
 def test_vector_figure_file_has_no_fonts_and_no_images(built):
     _, result = built
     reader = pypdf.PdfReader(result.pdf.parent / "figures" / "form-model.pdf")
-    resources = reader.pages[0].get("/Resources", {})
-    assert "/XObject" not in resources  # no raster
+    forms = [x.get_object() for x in reader.pages[0]["/Resources"]["/XObject"].values()]
+    assert [f["/Subtype"] for f in forms] == ["/Form"]  # the figure is one form XObject (sheets.report.pdf_form)
+    assert "/XObject" not in forms[0]["/Resources"]  # and it names no raster
     assert reader.pages[0].extract_text().strip() == ""  # labels are glyph outlines, not font text
     with pdfplumber.open(result.pdf.parent / "figures" / "form-model.pdf") as pdf:
         assert len(pdf.pages[0].curves) + len(pdf.pages[0].lines) > 50

@@ -253,18 +253,19 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
     (a symlink to a versioned folder), so an interrupted or killed build leaves the previous set
     whole; older sets are then removed file by file as their own manifests list them.
 
-    Incremental: the determinacy, each state's diagrams and each figure are kept in a stage cache
-    (sheets.cache, ``.sheets-sets/<name>/cache/``) under the content of exactly what they depend on,
-    so a rebuild after a change redoes only what the change reaches; the rest (tables, results,
-    the PDF) is made anew every time, and a cached build writes the same bytes as a forced one.
+    Incremental: the determinacy, each state's diagrams and each figure (with its PDF form or
+    image stream) are kept in a stage cache (sheets.cache, ``.sheets-sets/<name>/cache/``) under
+    the content of exactly what they depend on, so a rebuild after a change redoes only what the
+    change reaches; the rest (tables, results, the PDF) is made anew every time, starting from the
+    page layout of the last build, and a cached build writes the same bytes as a forced one.
     ``force``: make every stage anew (the cache is refreshed, not read).
     """
     from sheets.analysis.member_checks import member_checks, member_checks_csv
     from sheets.analysis.sizing import size_members
-    from sheets.cache import StageCache
+    from sheets.cache import MISSING, StageCache, without_loads
     from sheets.export.publish import SetWriter, output_error
     from sheets.reciprocal.stage import project_diagrams
-    from sheets.report.assemble import assemble
+    from sheets.report.assemble import assemble_from
     from sheets.report.figures import collect_figures, drawn_states
     from sheets.report.sections import IssuedFile
     from sheets.report.templates import load_template
@@ -307,8 +308,11 @@ def build_sheets(path: str | Path, out_dir: str | Path | None = None, progress: 
             issued.append(IssuedFile("manifest.json", "SHA-256 of every file above and of this PDF"))
             note("assembly")
             pdf_name = f"{source.stem}.pdf"
-            pdf = assemble(analysis, checks, figures, template, issued=tuple(issued), sizing=sizing, notes=notes,
-                           comparison=comparison)
+            # where the pages fell last time is tried first: while only loads change, they fall alike
+            layout_key, seed = cache.lookup("page layout", (without_loads(project), template))
+            pdf, layout = assemble_from(None if seed is MISSING else seed, analysis, checks, figures, template,
+                                        issued=tuple(issued), sizing=sizing, notes=notes, comparison=comparison)
+            cache.store("page layout", layout_key, layout)
             write_atomic(staging / pdf_name, pdf)
             note("writing files")
             files = target.publish(pdf_name, project.fingerprint)

@@ -14,7 +14,7 @@ from reportlab.platypus import PageBreak
 from sheets import __version__
 from sheets.analysis import Analysis
 from sheets.analysis.member_checks import MemberChecks
-from sheets.report.document import Metadata, PageCount, SheetDocument, binary_streams
+from sheets.report.document import Layout, Metadata, PageCount, SheetDocument, binary_streams
 from sheets.report.figures import SheetFigure
 from sheets.report.fonts import register_fonts
 from sheets.report.sections import SECTIONS, IssuedFile, SheetSet
@@ -44,6 +44,15 @@ def assemble(analysis: Analysis, checks: MemberChecks, figures: tuple[SheetFigur
              issued: tuple[IssuedFile, ...] = (), sizing: Any | None = None, notes: tuple[str, ...] = (),
              comparison: Any | None = None) -> bytes:
     """The whole sheet set as PDF bytes; ``comparison`` (sheets.revision.compare) adds the revision comparison."""
+    return assemble_from(None, analysis, checks, figures, template, issued=issued, sizing=sizing, notes=notes,
+                         comparison=comparison)[0]
+
+
+def assemble_from(seed: Layout | None, analysis: Analysis, checks: MemberChecks, figures: tuple[SheetFigure, ...],
+                  template: Template, *, issued: tuple[IssuedFile, ...] = (), sizing: Any | None = None,
+                  notes: tuple[str, ...] = (), comparison: Any | None = None) -> tuple[bytes, Layout]:
+    """``assemble``, starting from the layout of an earlier build of the set (``seed``, or None), and the layout
+    this one found: the same bytes whatever the seed (SheetDocument.multiBuild), fewer passes where it holds."""
     fonts = register_fonts()
     styles = make_styles(fonts, template.font_size)
     buffer = io.BytesIO()
@@ -59,5 +68,5 @@ def assemble(analysis: Analysis, checks: MemberChecks, figures: tuple[SheetFigur
         story.extend(flowables)
     story.append(PageCount(doc))
     with binary_streams():
-        doc.multiBuild(story)
-    return buffer.getvalue()
+        doc.multiBuild(story, seed=seed)
+    return buffer.getvalue(), doc.layout

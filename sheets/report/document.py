@@ -9,7 +9,8 @@ the document is laid out in passes (reportlab's multiBuild) until the contents
 and the page count agree with the previous pass. Those passes only find where
 things land: tables, figures and page decorations skip drawing in them
 (``layout_only``), and one last pass, laid out as the settled one, draws the
-whole set.
+whole set. A rebuild starts from where the last build's pages fell
+(``multiBuild(seed=...)``): while they fall alike, the drawing pass is the only one.
 
 Bytes are deterministic: reportlab's invariant mode, and the PDF creation date
 taken from the project's date, never the clock.
@@ -27,6 +28,7 @@ from reportlab.lib import colors
 from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.platypus import BaseDocTemplate, Frame, PageTemplate, Paragraph
 from reportlab.platypus.flowables import Flowable
+from reportlab.platypus.tableofcontents import TableOfContents
 
 from sheets.model.project import ProjectInfo
 from sheets.report.fonts import Fonts
@@ -102,6 +104,14 @@ class PageCount(Flowable):
 
 
 @dataclass(frozen=True)
+class Layout:
+    """Where a set's pages fell: the entries (level, text, page, key) of each contents list, and the page count."""
+
+    contents: tuple[tuple[tuple, ...], ...]  # per contents list in the story
+    pages: int
+
+
+@dataclass(frozen=True)
 class Metadata:
     title: str
     author: str
@@ -132,6 +142,7 @@ class SheetDocument(BaseDocTemplate):
         self.pages_seen = 0
         self.running_head = ""
         self.drawing = True  # False in the passes that only lay out
+        self.layout: Layout | None = None  # where the pages fell, once built (multiBuild)
         width, height = template.page_size
         m = template.margin
         rows = self.block_rows()
@@ -167,19 +178,26 @@ class SheetDocument(BaseDocTemplate):
         return self.template.page_size[1] - 2 * self.template.margin - FOOTER_HEIGHT - self.block_height - 8 - HEAD_HEIGHT - 8
 
     # -- build hooks ------------------------------------------------------------
-    def multiBuild(self, story, maxPasses=10, **kw):
+    def multiBuild(self, story, maxPasses=10, seed: Layout | None = None, **kw):
         """Lay out without drawing until the contents and page count settle, then build once more, drawing.
 
         reportlab's own multiBuild draws every pass. This loop follows it (indexing flowables told before
         and after each pass, its edits to the story undone between passes) but gives the passes before the
         layout settles a canvas marked ``layout_only`` that writes to a scratch buffer. The settled pass
         leaves every indexing flowable with what it found, so the drawing pass lays out the same pages and
-        is satisfied at once; were it not, the loop goes on, drawing, until it is. Returns the passes made."""
+        is satisfied at once; were it not, the loop lays out again until it settles.
+
+        ``seed``: the layout of an earlier build of this set (``self.layout`` after a build). The first pass
+        then draws, starting from it: where the pages fall as they did, that one pass is the whole build.
+        Its bytes are those of a build from nothing, because the layout that satisfies the passes is one
+        only: no flowable's size depends on a page number (the contents list draws its numbers after its
+        lines are laid out), so the pages fall alike whatever numbers the passes start from. Returns the
+        passes made."""
         self._indexingFlowables = [f for f in story if f.isIndexing()]
         self._doSave = 0  # the canvas is saved here, once, after the drawing pass
         edits: list = []
         self._multiBuildEdits = edits.append
-        self.drawing = False
+        self.drawing = seed is not None and self._start_from(seed)
         try:
             for passes in range(1, maxPasses + 2):
                 for f in self._indexingFlowables:
@@ -190,15 +208,34 @@ class SheetDocument(BaseDocTemplate):
                 settled = self._allSatisfied()
                 if settled and self.drawing:
                     self.canv.save()
+                    self.layout = Layout(self._contents(), self.pages_seen)
                     return passes
                 while edits:  # undo what the pass changed on the story's flowables (e.g. keepWithNext)
                     edit = edits.pop(0)
                     edit[0](*edit[1:])
-                self.drawing = self.drawing or settled
+                self.drawing = settled  # draw after a settled layout; after a drawing pass that was not, lay out again
             raise IndexError(f"the contents and page count did not settle in {maxPasses} passes")
         finally:
             self.drawing = True
             del self._multiBuildEdits
+
+    def _contents_lists(self) -> list[TableOfContents]:
+        return [f for f in self._indexingFlowables if isinstance(f, TableOfContents)]
+
+    def _contents(self) -> tuple[tuple[tuple, ...], ...]:
+        return tuple(tuple(tuple(entry) for entry in toc._entries) for toc in self._contents_lists())
+
+    def _start_from(self, seed: Layout) -> bool:
+        """Give the indexing flowables what an earlier build found, as if a pass had just found it
+        (False, nothing given, where the story's contents lists are not those of the seed)."""
+        tocs = self._contents_lists()
+        if len(tocs) != len(seed.contents):
+            return False
+        for toc, entries in zip(tocs, seed.contents):
+            toc.clearEntries()
+            toc.addEntries(list(entries))
+        self.pages_seen = seed.pages
+        return True
 
     def beforeDocument(self):
         setattr(self.canv, LAYOUT_ONLY, not self.drawing)

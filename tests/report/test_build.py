@@ -59,7 +59,7 @@ def test_an_interrupted_build_leaves_the_previous_set_whole(tmp_path, monkeypatc
     def broken(*args, **kwargs):
         raise RuntimeError("power cut during assembly")
 
-    monkeypatch.setattr("sheets.report.assemble.assemble", broken)
+    monkeypatch.setattr("sheets.report.assemble.assemble_from", broken)
     with pytest.raises(RuntimeError, match="power cut"):
         build_sheets(path, out)
     assert _files(out) == before  # the old PDF, results and figures, byte for byte; no staging left

@@ -56,8 +56,8 @@ from matplotlib.figure import Figure
 
 from sheets.analysis import Analysis
 from sheets.cache import MISSING, StageCache, content_key, without_loads
-from sheets.report.pdf_image import PdfImage, from_png
 from sheets.render import form_figure
+from sheets.report.pdf_image import PdfImage, from_png
 from sheets.report.templates import Template
 from sheets.report.vector import VECTOR_SUFFIX, VectorFigure, read_vector_file, record
 

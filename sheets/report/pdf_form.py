@@ -1,7 +1,7 @@
 """A recorded vector figure as one PDF form XObject, compressed where the figure is drawn.
 
-Replaying a figure's path operators onto every page that shows it, and compressing them
-again with the page, cost the PDF stage of a set with force diagrams most of its time. A
+Replaying a figure's path operators onto the page that shows it, and compressing them again
+with the page in every build, was much of the PDF stage of a set with force diagrams. A
 form XObject is the figure's operators in a stream of its own (ISO 32000-1, 8.10): made
 and compressed once (in the figure worker, and kept in the stage cache with the figure),
 then placed on a page by name with a scale. The figure files in figures/ place the same

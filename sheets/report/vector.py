@@ -3,10 +3,11 @@
 Route: a small matplotlib renderer (``Recorder``) draws the figure once into a
 list of path operations in points (figure dpi set to 72), with text turned into
 glyph outlines by matplotlib's own TextToPath. The list (a ``VectorFigure``)
-is replayed onto any reportlab canvas: into the sheet set, where it scales to
-the frame, and into a one-page PDF saved in figures/. Lines stay lines at every
-zoom, the bytes are deterministic (no clock, no random ids), and the figure is
-drawn by matplotlib only once however many layout passes the document needs.
+becomes one compressed PDF form XObject (sheets.report.pdf_form), placed on any
+reportlab canvas: into the sheet set, where it scales to the frame, and into a
+one-page PDF saved in figures/. Lines stay lines at every zoom, the bytes are
+deterministic (no clock, no random ids), and the figure is drawn by matplotlib
+and encoded only once however many layout passes the document needs.
 
 Figures drawn by other render modules that save to a path (``fig.savefig(path)``)
 are taken the same way: ``read_vector_file`` asks them for a path ending in

@@ -41,7 +41,6 @@ from __future__ import annotations
 import ctypes
 import dataclasses
 import importlib
-import io
 import multiprocessing
 import os
 import signal
@@ -73,7 +72,6 @@ class SheetFigure:
     caption: str
     vector: VectorFigure | None = None
     png: bytes | None = None  # raster views (3D renders)
-    png_size: tuple[int, int] = (0, 0)  # pixels
     file: bytes = b""  # the file for figures/, made where the figure is drawn (``with_file``)
     image: PdfImage | None = None  # the PNG as a PDF image stream, made there too (``with_file``)
 
@@ -257,14 +255,7 @@ def _external(module: str, function: str, part: str, title: str, caption: str, a
     if written.suffix.lower() != ".png":
         return [FigureNote(f"{title} of {label} is not in this set: {function} wrote a {written.suffix} file")]
     png = written.read_bytes()
-    return [SheetFigure(key, part, state.id, f"{title}, {label}", caption, png=png, png_size=_png_size(png))]
-
-
-def _png_size(png: bytes) -> tuple[int, int]:
-    from PIL import Image
-
-    with Image.open(io.BytesIO(png)) as im:
-        return im.size
+    return [SheetFigure(key, part, state.id, f"{title}, {label}", caption, png=png)]
 
 
 RECIPROCAL = ("sheets.render.diagram2d", "reciprocal_figure")

@@ -160,7 +160,7 @@ class StageCache:
         return value
 
     def summary(self) -> str:
-        """'made: figure x3, assembly; reused: determinacy, figure x4' for the lookups so far."""
+        """'made: figure x3, page layout; reused: determinacy, figure x4' for the lookups so far."""
         def counted(stages: list[str]) -> str:
             counts: dict[str, int] = {}
             for stage in stages:
